@@ -1,0 +1,30 @@
+import { z } from "zod";
+
+// Parsed once at start-up; a missing or malformed variable stops the process with its name.
+const EnvSchema = z.object({
+  NODE_ENV: z.enum(["development", "production", "test"]).default("development"),
+  DATABASE_URL: z.string().startsWith("postgres", "must be a postgres:// URL"),
+  AUTH_SECRET: z.string().min(32, "must be at least 32 characters"),
+  APP_URL: z.url().default("http://127.0.0.1:3000"),
+  SMTP_HOST: z.string().default("127.0.0.1"),
+  SMTP_PORT: z.coerce.number().int().positive().default(1025),
+  SMTP_USER: z.string().optional(),
+  SMTP_PASSWORD: z.string().optional(),
+  SMTP_SECURE: z.stringbool().default(false),
+  MAIL_FROM: z.string().default("Chillwright <no-reply@chillwright.local>"),
+  TRUST_PROXY: z.stringbool().default(false),
+  DB_POOL_MAX: z.coerce.number().int().positive().default(10),
+});
+
+export type Env = z.infer<typeof EnvSchema>;
+
+function parseEnv(): Env {
+  const parsed = EnvSchema.safeParse(process.env);
+  if (!parsed.success) {
+    const lines = parsed.error.issues.map((i) => `  ${i.path.join(".")}: ${i.message}`);
+    throw new Error(`Chillwright cannot start; fix these environment variables:\n${lines.join("\n")}`);
+  }
+  return parsed.data;
+}
+
+export const env = parseEnv();
