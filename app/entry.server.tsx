@@ -1,0 +1,59 @@
+import { createReadableStreamFromReadable } from "@react-router/node";
+import { isbot } from "isbot";
+import { randomBytes } from "node:crypto";
+import { PassThrough } from "node:stream";
+import { renderToPipeableStream, type RenderToPipeableStreamOptions } from "react-dom/server";
+import { ServerRouter, type EntryContext, type RouterContextProvider } from "react-router";
+import { contentSecurityPolicy } from "./server/security.server";
+
+export const streamTimeout = 5_000;
+
+export default function handleRequest(
+  request: Request,
+  responseStatusCode: number,
+  responseHeaders: Headers,
+  routerContext: EntryContext,
+  _loadContext: RouterContextProvider,
+) {
+  if (request.method.toUpperCase() === "HEAD") {
+    return new Response(null, { status: responseStatusCode, headers: responseHeaders });
+  }
+  // A fresh nonce per document: the only inline scripts allowed are the router's own.
+  const nonce = randomBytes(16).toString("base64");
+  responseHeaders.set("Content-Security-Policy", contentSecurityPolicy(nonce));
+
+  return new Promise<Response>((resolve, reject) => {
+    let shellRendered = false;
+    const userAgent = request.headers.get("user-agent");
+    const readyOption: keyof RenderToPipeableStreamOptions =
+      (userAgent && isbot(userAgent)) || routerContext.isSpaMode ? "onAllReady" : "onShellReady";
+    let timeoutId: ReturnType<typeof setTimeout> | undefined = setTimeout(() => abort(), streamTimeout + 1000);
+
+    const { pipe, abort } = renderToPipeableStream(
+      <ServerRouter context={routerContext} url={request.url} nonce={nonce} />,
+      {
+        nonce,
+        [readyOption]() {
+          shellRendered = true;
+          const body = new PassThrough({
+            final(callback) {
+              clearTimeout(timeoutId);
+              timeoutId = undefined;
+              callback();
+            },
+          });
+          responseHeaders.set("Content-Type", "text/html; charset=utf-8");
+          pipe(body);
+          resolve(new Response(createReadableStreamFromReadable(body), { headers: responseHeaders, status: responseStatusCode }));
+        },
+        onShellError(error: unknown) {
+          reject(error);
+        },
+        onError(error: unknown) {
+          responseStatusCode = 500;
+          if (shellRendered) console.error(error);
+        },
+      },
+    );
+  });
+}

@@ -1,0 +1,24 @@
+import { index, layout, prefix, route, type RouteConfig } from "@react-router/dev/routes";
+
+export default [
+  index("routes/home.tsx"),
+  route("signin", "routes/signin.tsx"),
+  route("signout", "routes/signout.ts"),
+  route("forgot-password", "routes/forgot-password.tsx"),
+  route("reset-password/:token", "routes/reset-password.tsx"),
+  route("invite/:token", "routes/invite.tsx"),
+  route("language", "routes/language.ts"),
+  route("auth/*", "routes/auth.ts"),
+  route("healthz", "routes/healthz.ts"),
+  route("station", "routes/station.tsx"),
+  layout("routes/shell.tsx", [
+    route("account", "routes/account.tsx"),
+    route("sites", "routes/sites.tsx"),
+    ...prefix("sites/:siteId", [
+      index("routes/site-home.tsx"),
+      route("settings", "routes/site-settings.tsx"),
+      route("team", "routes/site-team.tsx"),
+      route("station-setup", "routes/station-setup.tsx"),
+    ]),
+  ]),
+] satisfies RouteConfig;

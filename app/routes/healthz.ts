@@ -1,0 +1,7 @@
+import { sql } from "drizzle-orm";
+import { db } from "~/server/db.server";
+
+export async function loader() {
+  await db.execute(sql`select 1`);
+  return Response.json({ ok: true });
+}

@@ -1,0 +1,106 @@
+import { and, desc, eq, isNull } from "drizzle-orm";
+import { useTranslation } from "react-i18next";
+import { data, Form, redirect } from "react-router";
+import { z } from "zod";
+import { stationDevices } from "~db/schema";
+import { Field } from "~/components/frame";
+import { fieldErrors } from "~/lib/forms";
+import { recordAudit } from "~/server/audit.server";
+import { clearSessionCookie } from "~/server/auth.server";
+import { hashToken, makeToken } from "~/server/crypto.server";
+import { db } from "~/server/db.server";
+import { can, isUuid, notFound, requireRole } from "~/server/guards.server";
+import { stationCookie } from "~/server/station.server";
+import type { Route } from "./+types/station-setup";
+
+export const meta: Route.MetaFunction = () => [{ title: "Set up station · Chillwright" }];
+
+const StationSchema = z.discriminatedUnion("intent", [
+  z.object({ intent: z.literal("create"), name: z.string().trim().min(1, "forms.required").max(80) }),
+  z.object({ intent: z.literal("retire"), deviceId: z.string().refine(isUuid) }),
+]);
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { site } = await requireRole(request, can.setUpStation, params.siteId);
+  const devices = await db
+    .select({ id: stationDevices.id, name: stationDevices.name, lastSeenAt: stationDevices.lastSeenAt, createdAt: stationDevices.createdAt })
+    .from(stationDevices)
+    .where(and(eq(stationDevices.siteId, site.id), isNull(stationDevices.revokedAt)))
+    .orderBy(desc(stationDevices.createdAt));
+  return { siteName: site.name, devices };
+}
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const { user, site } = await requireRole(request, can.setUpStation, params.siteId);
+  const parsed = StationSchema.safeParse(Object.fromEntries(await request.formData()));
+  if (!parsed.success) return data({ errors: fieldErrors(parsed.error) }, { status: 400 });
+  const actor = { kind: "user" as const, userId: user.id };
+  if (parsed.data.intent === "retire") {
+    const { deviceId } = parsed.data;
+    const retired = await db.transaction(async (tx) => {
+      const [d] = await tx
+        .update(stationDevices)
+        .set({ revokedAt: new Date() })
+        .where(and(eq(stationDevices.id, deviceId), eq(stationDevices.siteId, site.id), isNull(stationDevices.revokedAt)))
+        .returning({ id: stationDevices.id });
+      if (d) await recordAudit(tx, { actor, organisationId: site.organisationId, siteId: site.id, action: "station.retired", entity: "station_device", entityId: d.id });
+      return !!d;
+    });
+    if (!retired) notFound();
+    return data({ errors: {} as Record<string, string> });
+  }
+  const token = makeToken();
+  const name = parsed.data.name;
+  await db.transaction(async (tx) => {
+    const [d] = await tx.insert(stationDevices).values({ siteId: site.id, name, tokenHash: hashToken(token), createdBy: user.id }).returning({ id: stationDevices.id });
+    await recordAudit(tx, { actor, organisationId: site.organisationId, siteId: site.id, action: "station.created", entity: "station_device", entityId: d.id, data: { name } });
+  });
+  // The manager's own session ends on this shared device: from now on entries are made by PIN.
+  const headers = new Headers();
+  headers.append("Set-Cookie", stationCookie(token));
+  headers.append("Set-Cookie", clearSessionCookie());
+  return redirect("/station", { headers });
+}
+
+export default function StationSetup({ loaderData, actionData }: Route.ComponentProps) {
+  const { t, i18n } = useTranslation();
+  const { siteName, devices } = loaderData;
+  const errors: Record<string, string> = actionData?.errors ?? {};
+  const when = (d: Date | string | null) => (d ? new Date(d).toLocaleString(i18n.language) : null);
+  return (
+    <div className="grid max-w-2xl gap-6">
+      <h1 className="text-2xl font-extrabold tracking-tight">{t("station.setupTitle")}</h1>
+      <Form method="post" reloadDocument className="card">
+        <p className="mb-5">{t("station.setupIntro", { site: siteName })}</p>
+        <input type="hidden" name="intent" value="create" />
+        <Field label={t("station.deviceName")} name="name" required placeholder={t("station.deviceNamePlaceholder")} error={errors.name && t(errors.name)} />
+        <button type="submit" className="btn-primary">
+          {t("station.setupSubmit")}
+        </button>
+      </Form>
+      {devices.length > 0 ? (
+        <section className="card" aria-labelledby="devices">
+          <h2 id="devices" className="mb-3 text-lg font-extrabold">
+            {t("station.devices")}
+          </h2>
+          <ul className="grid gap-2">
+            {devices.map((d) => (
+              <li key={d.id} className="flex items-center justify-between gap-3 rounded-xl bg-frost px-4 py-2">
+                <span>
+                  <span className="font-bold">{d.name}</span> · {d.lastSeenAt ? t("station.lastSeen", { when: when(d.lastSeenAt) }) : t("station.never")}
+                </span>
+                <Form method="post">
+                  <input type="hidden" name="intent" value="retire" />
+                  <input type="hidden" name="deviceId" value={d.id} />
+                  <button type="submit" className="btn-quiet min-h-12 px-3 text-sm">
+                    {t("station.revoke")}
+                  </button>
+                </Form>
+              </li>
+            ))}
+          </ul>
+        </section>
+      ) : null}
+    </div>
+  );
+}

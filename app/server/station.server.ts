@@ -1,0 +1,131 @@
+import { and, eq, isNull, sql } from "drizzle-orm";
+import { createHmac } from "node:crypto";
+import { memberships, sites, stationDevices, users } from "~db/schema";
+import { recordAudit } from "./audit.server";
+import { hashToken, sameHash, verifySecret } from "./crypto.server";
+import { db } from "./db.server";
+import { env } from "./env.server";
+import { consume, isLimited, pinFailuresByDevice } from "./rate-limit.server";
+
+const secure = env.APP_URL.startsWith("https:") ? "; Secure" : "";
+export const STATION_COOKIE = "cw_station";
+export const STATION_COOK_COOKIE = "cw_station_cook";
+/** A PIN locks after this many wrong entries in a row; a manager resets it. */
+export const PIN_LOCK_AFTER = 5;
+/** How long a cook stays "on" a station after their PIN, without another entry. */
+const COOK_MINUTES = 5;
+
+export function readCookie(request: Request, name: string) {
+  const header = request.headers.get("cookie") ?? "";
+  for (const part of header.split(/;\s*/)) {
+    const i = part.indexOf("=");
+    if (i > 0 && part.slice(0, i) === name) return decodeURIComponent(part.slice(i + 1));
+  }
+  return null;
+}
+
+export const stationCookie = (token: string) =>
+  `${STATION_COOKIE}=${token}; Path=/; HttpOnly; SameSite=Lax; Max-Age=${180 * 24 * 3600}${secure}`;
+export const clearStationCookies = () => [
+  `${STATION_COOKIE}=; Path=/; HttpOnly; SameSite=Lax; Max-Age=0${secure}`,
+  `${STATION_COOK_COOKIE}=; Path=/; HttpOnly; SameSite=Lax; Max-Age=0${secure}`,
+];
+
+export type StationDevice = {
+  id: string;
+  name: string;
+  siteId: string;
+  siteName: string;
+  organisationId: string;
+  temperatureUnit: "F" | "C";
+  timeZone: string;
+};
+
+/** The station device this browser was set up as, unless it was revoked. */
+export async function getStationDevice(request: Request): Promise<StationDevice | null> {
+  const token = readCookie(request, STATION_COOKIE);
+  if (!token) return null;
+  const [device] = await db
+    .select({
+      id: stationDevices.id,
+      name: stationDevices.name,
+      siteId: stationDevices.siteId,
+      siteName: sites.name,
+      organisationId: sites.organisationId,
+      temperatureUnit: sites.temperatureUnit,
+      timeZone: sites.timeZone,
+    })
+    .from(stationDevices)
+    .innerJoin(sites, eq(sites.id, stationDevices.siteId))
+    .where(and(eq(stationDevices.tokenHash, hashToken(token)), isNull(stationDevices.revokedAt)));
+  return device ?? null;
+}
+
+/** The people who may make entries on this station: active members of its site. */
+export function listStationPeople(siteId: string) {
+  return db
+    .select({ id: users.id, name: users.name, role: memberships.role, locked: sql<boolean>`${users.pinLockedAt} is not null`, hasPin: sql<boolean>`${users.pinHash} is not null` })
+    .from(memberships)
+    .innerJoin(users, eq(users.id, memberships.userId))
+    .where(and(eq(memberships.siteId, siteId), eq(users.active, true)))
+    .orderBy(users.name);
+}
+
+export type PinResult = { ok: true; userId: string; name: string } | { ok: false; reason: "wrong" | "locked" | "device_limited" | "unknown"; attemptsLeft?: number };
+
+/** Checks a cook's PIN on a station device; repeated failures lock the PIN and slow the device. */
+export async function verifyStationPin(device: StationDevice, userId: string, pin: string): Promise<PinResult> {
+  if (await isLimited(pinFailuresByDevice, device.id)) return { ok: false, reason: "device_limited" };
+  const [person] = await db
+    .select({ id: users.id, name: users.name, pinHash: users.pinHash, lockedAt: users.pinLockedAt, failed: users.pinFailedAttempts })
+    .from(users)
+    .innerJoin(memberships, and(eq(memberships.userId, users.id), eq(memberships.siteId, device.siteId)))
+    .where(and(eq(users.id, userId), eq(users.active, true)));
+  if (!person) return { ok: false, reason: "unknown" };
+  if (person.lockedAt) return { ok: false, reason: "locked" };
+  const actor = { kind: "station" as const, userId: person.id, deviceId: device.id };
+  if (await verifySecret(person.pinHash, pin)) {
+    if (person.failed > 0) await db.update(users).set({ pinFailedAttempts: 0 }).where(eq(users.id, person.id));
+    return { ok: true, userId: person.id, name: person.name };
+  }
+  await consume(pinFailuresByDevice, device.id);
+  const [after] = await db
+    .update(users)
+    .set({
+      pinFailedAttempts: sql`${users.pinFailedAttempts} + 1`,
+      pinLockedAt: sql`case when ${users.pinFailedAttempts} + 1 >= ${PIN_LOCK_AFTER} then now() else null end`,
+    })
+    .where(eq(users.id, person.id))
+    .returning({ failed: users.pinFailedAttempts, lockedAt: users.pinLockedAt });
+  await recordAudit(db, {
+    actor,
+    organisationId: device.organisationId,
+    siteId: device.siteId,
+    action: after.lockedAt ? "user.pin_locked" : "user.pin_failed",
+    entity: "user",
+    entityId: person.id,
+    data: { failedAttempts: after.failed },
+  });
+  if (after.lockedAt) return { ok: false, reason: "locked" };
+  return { ok: false, reason: "wrong", attemptsLeft: PIN_LOCK_AFTER - after.failed };
+}
+
+// The cook now at the station: a signed, short-lived cookie naming device, user and expiry.
+const sign = (value: string) => createHmac("sha256", env.AUTH_SECRET).update(value).digest("base64url");
+
+export function stationCookCookie(deviceId: string, userId: string) {
+  const expires = Date.now() + COOK_MINUTES * 60_000;
+  const value = `${deviceId}.${userId}.${expires}`;
+  return `${STATION_COOK_COOKIE}=${value}.${sign(value)}; Path=/; HttpOnly; SameSite=Lax; Max-Age=${COOK_MINUTES * 60}${secure}`;
+}
+
+export function getStationCookId(request: Request, device: StationDevice) {
+  const raw = readCookie(request, STATION_COOK_COOKIE);
+  if (!raw) return null;
+  const parts = raw.split(".");
+  if (parts.length !== 4) return null;
+  const [deviceId, userId, expires, mac] = parts;
+  if (!sameHash(mac, sign(`${deviceId}.${userId}.${expires}`))) return null;
+  if (deviceId !== device.id || Number(expires) < Date.now()) return null;
+  return userId;
+}
