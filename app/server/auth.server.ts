@@ -37,7 +37,9 @@ export const authConfig: AuthConfig = {
   pages: { signIn: "/signin", error: "/signin" },
   logger: {
     error(error) {
-      if (error.name !== "CredentialsSignin") console.error(error);
+      // Wrong passwords, throttled and token-less sign-ins are expected answers, not faults.
+      const type = (error as { type?: string }).type;
+      if (type !== "CredentialsSignin" && type !== "MissingCSRF") console.error(error);
     },
     warn() {},
   },

@@ -3,8 +3,16 @@ import { createHash, randomBytes, timingSafeEqual } from "node:crypto";
 
 // argon2id with the library's defaults (19 MiB, 2 passes): OWASP's minimum recommendation.
 export const hashSecret = (plain: string) => hash(plain);
-export const verifySecret = (stored: string | null | undefined, plain: string) =>
-  stored ? verify(stored, plain).catch(() => false) : Promise.resolve(false);
+// Checking against a throwaway hash when there is none keeps "no such account" as slow as "wrong password".
+let throwaway: Promise<string> | undefined;
+export async function verifySecret(stored: string | null | undefined, plain: string) {
+  if (!stored) {
+    throwaway ??= hash(makeToken());
+    await verify(await throwaway, plain).catch(() => false);
+    return false;
+  }
+  return verify(stored, plain).catch(() => false);
+}
 
 /** A random token of 256 bits, URL-safe. Only its hash is stored. */
 export const makeToken = (bytes = 32) => randomBytes(bytes).toString("base64url");

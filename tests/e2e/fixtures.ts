@@ -1,0 +1,29 @@
+import { test as base, expect, type Page } from "@playwright/test";
+import { DEMO_PASSWORD, demoUsers } from "../../db/demo";
+
+export const SCREENS = "test-results/screens";
+
+/** Every page fails its test on an unexpected console error. */
+export const test = base.extend<{ page: Page }>({
+  page: async ({ page }, use) => {
+    const errors: string[] = [];
+    page.on("console", (m) => {
+      // A 4xx answer to a form is the app's deliberate "fix this field"; the page shows why.
+      if (m.type() === "error" && !/Failed to load resource: the server responded with a status of 4\d\d/.test(m.text())) errors.push(m.text());
+    });
+    page.on("pageerror", (e) => errors.push(e.message));
+    await use(page);
+    expect(errors, "console errors").toEqual([]);
+  },
+});
+export { expect };
+
+export const demo = (site: "harbor" | "wattle", role: "cook" | "manager" | "qa" | "admin") => demoUsers.find((u) => u.site === site && u.role === role)!;
+
+export async function signIn(page: Page, email: string, password = DEMO_PASSWORD) {
+  await page.goto("/signin");
+  await page.getByLabel(/e-mail|correo/i).fill(email);
+  await page.getByLabel(/^(password|contraseña)$/i).fill(password);
+  await page.getByRole("button", { name: /^(sign in|iniciar sesión|entrar)$/i }).click();
+  await page.waitForURL(/\/sites\//);
+}

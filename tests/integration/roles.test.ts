@@ -1,0 +1,71 @@
+import { beforeAll, describe, expect, it } from "vitest";
+import { Client, location, signedIn } from "../helpers/client";
+import { newTenant } from "../helpers/db";
+
+type Role = "cook" | "manager" | "qa" | "admin";
+type Expect = Record<Role | "anonymous", number>;
+
+// What every route answers each role: 200 allowed, 403 signed in without the right, 302 to sign-in.
+const pages: [string, Expect][] = [
+  ["/sites/:site", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
+  ["/sites/:site/team", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
+  ["/sites/:site/settings", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
+  ["/sites/:site/station-setup", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
+  ["/sites", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
+  ["/account", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
+];
+
+// Mutations, each sent with input that is valid where allowed.
+const mutations: [string, (site: string) => Record<string, string>, Expect][] = [
+  [
+    "/sites/:site/settings",
+    () => ({ name: "Renamed", temperatureUnit: "C", timeZone: "Europe/Madrid", ruleSetCode: "fda-3-501.14-a", readingIntervalMinutes: "20", overdueGraceMinutes: "5", retentionDays: "730" }),
+    { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 },
+  ],
+  ["/sites/:site/team", () => ({ intent: "invite", email: `x-${Math.random().toString(36).slice(2)}@tenant.example`, name: "New Person", role: "qa" }), { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
+  ["/sites", () => ({ name: "Annex", temperatureUnit: "F", timeZone: "America/Chicago", ruleSetCode: "fda-3-501.14-a" }), { anonymous: 302, cook: 403, manager: 403, qa: 403, admin: 302 }],
+];
+
+describe("role × route matrix", () => {
+  let tenant: Awaited<ReturnType<typeof newTenant>>;
+  const clients = {} as Record<Role | "anonymous", Client>;
+  beforeAll(async () => {
+    tenant = await newTenant();
+    clients.anonymous = new Client();
+    for (const role of ["cook", "manager", "qa", "admin"] as const) {
+      clients[role] = await signedIn(tenant.people[role].email, tenant.people[role].password);
+    }
+  });
+
+  for (const [pattern, expected] of pages) {
+    for (const who of Object.keys(expected) as (keyof Expect)[]) {
+      it(`GET ${pattern} answers ${who} with ${expected[who]}`, async () => {
+        const path = pattern.replace(":site", tenant.site.id);
+        const res = await clients[who].get(path);
+        expect(res.status).toBe(expected[who]);
+        if (expected[who] === 302) expect(location(res)).toBe(`/signin?next=${encodeURIComponent(path)}`);
+      });
+    }
+  }
+
+  for (const [pattern, body, expected] of mutations) {
+    for (const who of Object.keys(expected) as (keyof Expect)[]) {
+      it(`POST ${pattern} answers ${who} with ${expected[who]}`, async () => {
+        const res = await clients[who].post(pattern.replace(":site", tenant.site.id), body(tenant.site.id));
+        expect(res.status).toBe(expected[who]);
+      });
+    }
+  }
+
+  it("each role's navigation lists only what that role may open", async () => {
+    const nav = async (role: Role) => {
+      const html = await (await clients[role].get(`/sites/${tenant.site.id}`)).text();
+      const menu = /<nav aria-label="Main menu"[\s\S]*?<\/nav>/.exec(html)?.[0] ?? "";
+      return [...menu.matchAll(/<a [^>]*>([^<]+)<\/a>/g)].map((m) => m[1]);
+    };
+    expect(await nav("cook")).toEqual(["Today", "My account"]);
+    expect(await nav("qa")).toEqual(["Today", "My account"]);
+    expect(await nav("manager")).toEqual(["Today", "Team", "Site settings", "Set up station", "My account"]);
+    expect(await nav("admin")).toEqual(["Today", "Team", "Site settings", "Set up station", "Sites", "My account"]);
+  });
+});

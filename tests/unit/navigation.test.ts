@@ -1,0 +1,19 @@
+import { describe, expect, it } from "vitest";
+import { navigationFor } from "~/lib/navigation";
+
+describe("navigation by role", () => {
+  const keys = (role: Parameters<typeof navigationFor>[0]) => navigationFor(role, "s1").map((i) => i.key);
+  it("cooks and QA see their site and their account", () => {
+    expect(keys("cook")).toEqual(["home", "account"]);
+    expect(keys("qa")).toEqual(["home", "account"]);
+  });
+  it("managers also run the team, the settings and the stations", () => {
+    expect(keys("manager")).toEqual(["home", "team", "settings", "station", "account"]);
+  });
+  it("administrators also manage the organisation's sites", () => {
+    expect(keys("admin")).toEqual(["home", "team", "settings", "station", "sites", "account"]);
+  });
+  it("someone with no site sees only their account", () => {
+    expect(navigationFor(null, null).map((i) => i.key)).toEqual(["account"]);
+  });
+});
