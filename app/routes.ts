@@ -19,6 +19,7 @@ export default [
       route("settings", "routes/site-settings.tsx"),
       route("team", "routes/site-team.tsx"),
       route("station-setup", "routes/station-setup.tsx"),
+      route("api-tokens", "routes/site-api-tokens.tsx"),
     ]),
   ]),
 ] satisfies RouteConfig;

@@ -1,6 +1,6 @@
 import { eq } from "drizzle-orm";
 import { useTranslation } from "react-i18next";
-import { data, Form, useNavigation } from "react-router";
+import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import { sites } from "~db/schema";
 import { CheckboxField, SelectField } from "~/components/controls";
@@ -105,6 +105,11 @@ export default function SiteSettings({ loaderData, actionData }: Route.Component
           {t("settings.save")}
         </button>
       </Form>
+      <p className="mt-6">
+        <Link to="../api-tokens" relative="path" className="font-bold text-glacier underline underline-offset-4">
+          {t("apiTokens.link")}
+        </Link>
+      </p>
     </div>
   );
 }

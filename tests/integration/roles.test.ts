@@ -11,6 +11,7 @@ const pages: [string, Expect][] = [
   ["/sites/:site/team", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites/:site/settings", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites/:site/station-setup", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
+  ["/sites/:site/api-tokens", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
   ["/account", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
 ];
@@ -23,6 +24,7 @@ const mutations: [string, (site: string) => Record<string, string>, Expect][] = 
     { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 },
   ],
   ["/sites/:site/team", () => ({ intent: "invite", email: `x-${Math.random().toString(36).slice(2)}@tenant.example`, name: "New Person", role: "qa" }), { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
+  ["/sites/:site/api-tokens", () => ({ intent: "create", name: "gateway" }), { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites", () => ({ name: "Annex", temperatureUnit: "F", timeZone: "America/Chicago", ruleSetCode: "fda-3-501.14-a" }), { anonymous: 302, cook: 403, manager: 403, qa: 403, admin: 302 }],
 ];
 

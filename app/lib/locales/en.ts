@@ -137,6 +137,17 @@ export const en = {
     pinFormat: "A PIN is 4 to 6 digits.",
     actions: "Actions",
   },
+  apiTokens: {
+    title: "API tokens of {{site}}",
+    intro: "Probe gateways and scripts use a token to send readings to this site. Each token works for this site only.",
+    name: "What uses it",
+    namePlaceholder: "e.g. walk-in probe gateway",
+    create: "Make a token",
+    created: "Copy this token now: it is shown only once.",
+    list: "Tokens in use",
+    revoke: "Revoke",
+    link: "API tokens for probe gateways",
+  },
   sites: {
     title: "Sites",
     yours: "Your sites",

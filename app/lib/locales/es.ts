@@ -139,6 +139,17 @@ export const es: Messages = {
     pinFormat: "El PIN tiene de 4 a 6 dígitos.",
     actions: "Acciones",
   },
+  apiTokens: {
+    title: "Tokens de API de {{site}}",
+    intro: "Las pasarelas de sondas y los scripts usan un token para enviar lecturas a este local. Cada token sirve solo para este local.",
+    name: "Quién lo usa",
+    namePlaceholder: "p. ej. pasarela de la cámara",
+    create: "Crear un token",
+    created: "Copia este token ahora: solo se muestra una vez.",
+    list: "Tokens en uso",
+    revoke: "Revocar",
+    link: "Tokens de API para pasarelas de sondas",
+  },
   sites: {
     title: "Locales",
     yours: "Tus locales",
