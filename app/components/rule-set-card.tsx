@@ -1,7 +1,9 @@
 import { useTranslation } from "react-i18next";
-import type { RuleSet } from "~/lib/rule-sets";
-import { formatTemperature, type TemperatureUnit } from "~/lib/temperature";
+import { limitIn, type Limit, type RuleSet } from "~/lib/rule-sets";
+import type { TemperatureUnit } from "~/lib/temperature";
 
+// The rule's own figure in the site's unit (26.7 °C, not a rounded 27 °C).
+const formatLimit = (limit: Limit, unit: TemperatureUnit) => `${limitIn(limit, unit)} °${unit}`;
 const hours = (minutes: number) => (minutes % 60 === 0 ? `${minutes / 60} h` : `${(minutes / 60).toFixed(1)} h`);
 
 /** The critical limits a site cools to, in its own unit, with the rule's source. */
@@ -18,11 +20,13 @@ export function RuleSetCard({ ruleSet, unit }: { ruleSet: RuleSet; unit: Tempera
           <li key={i} className="rounded-xl bg-frost p-4">
             <p className="text-sm font-bold text-glacier-dark">{t("home.stage", { n: i + 1 })}</p>
             <p className="text-lg font-bold">
-              {t("home.stageLine", { from: formatTemperature(s.fromC, unit), to: formatTemperature(s.toC, unit), hours: hours(s.withinMinutes) })}
+              {t("home.stageLine", { from: formatLimit(s.from, unit), to: formatLimit(s.to, unit), hours: hours(s.withinMinutes) })}
             </p>
-            <p className="text-sm text-ink-soft">
-              {s.clockFrom === "start" ? t("home.clockStart", { from: formatTemperature(ruleSet.stages[0].fromC, unit) }) : t("home.clockPrevious", { n: i })}
-            </p>
+            {s.clockFrom === "previous-stage" ? (
+              <p className="text-sm text-ink-soft">{t("home.clockPrevious", { n: i })}</p>
+            ) : ruleSet.clockStartsAt === "upper-limit" ? (
+              <p className="text-sm text-ink-soft">{t("home.clockStart", { from: formatLimit(ruleSet.stages[0].from, unit) })}</p>
+            ) : null}
           </li>
         ))}
       </ol>
