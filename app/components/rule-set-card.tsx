@@ -26,7 +26,9 @@ export function RuleSetCard({ ruleSet, unit }: { ruleSet: RuleSet; unit: Tempera
               <p className="text-sm text-ink-soft">{t("home.clockPrevious", { n: i })}</p>
             ) : ruleSet.clockStartsAt === "upper-limit" ? (
               <p className="text-sm text-ink-soft">{t("home.clockStart", { from: formatLimit(ruleSet.stages[0].from, unit) })}</p>
-            ) : null}
+            ) : (
+              <p className="text-sm text-ink-soft">{t("home.clockBatchStart")}</p>
+            )}
           </li>
         ))}
       </ol>

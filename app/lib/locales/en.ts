@@ -80,6 +80,7 @@ export const en = {
     stage: "Stage {{n}}",
     stageLine: "From {{from}} to {{to}} within {{hours}}",
     clockStart: "clock starts when the food passes {{from}}",
+    clockBatchStart: "clock starts when the batch starts cooling",
     clockPrevious: "clock starts when stage {{n}} ends",
     source: "Source",
     siteFacts: "This site",
@@ -89,6 +90,15 @@ export const en = {
     retention: "Records kept",
     minutes: "{{count}} min",
     days: "{{count}} days",
+  },
+  rules: {
+    limitNeedsUnit: "Give the limit in °C, in °F, or both.",
+    limitUnitsDisagree: "The °C and °F values of this limit differ by more than 1 °C.",
+    codeFormat: "Use lower-case letters, digits, dots and dashes.",
+    codeTaken: "That code belongs to a published rule set.",
+    firstStageFromStart: "The first stage's clock must start when the food passes the upper limit.",
+    stagesDescending: "Each stage must end colder than the one before.",
+    totalTimeGrows: "A later stage timed from the start must allow more total time.",
   },
   settings: {
     title: "Site settings",

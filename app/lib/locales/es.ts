@@ -82,6 +82,7 @@ export const es: Messages = {
     stage: "Etapa {{n}}",
     stageLine: "De {{from}} a {{to}} en {{hours}} o menos",
     clockStart: "el tiempo empieza a contar cuando el alimento baja de {{from}}",
+    clockBatchStart: "el tiempo empieza a contar cuando el lote empieza a enfriarse",
     clockPrevious: "el tiempo empieza a contar cuando termina la etapa {{n}}",
     source: "Fuente",
     siteFacts: "Este local",
@@ -91,6 +92,15 @@ export const es: Messages = {
     retention: "Conservación de registros",
     minutes: "{{count}} min",
     days: "{{count}} días",
+  },
+  rules: {
+    limitNeedsUnit: "Indica el límite en °C, en °F o en ambas.",
+    limitUnitsDisagree: "Los valores en °C y °F de este límite difieren en más de 1 °C.",
+    codeFormat: "Usa minúsculas, cifras, puntos y guiones.",
+    codeTaken: "Ese código pertenece a una norma publicada.",
+    firstStageFromStart: "El tiempo de la primera etapa debe empezar cuando el alimento baja del límite superior.",
+    stagesDescending: "Cada etapa debe terminar más fría que la anterior.",
+    totalTimeGrows: "Una etapa posterior contada desde el inicio debe dar más tiempo total.",
   },
   settings: {
     title: "Ajustes del local",
