@@ -10,6 +10,7 @@ export default [
   route("language", "routes/language.ts"),
   route("auth/*", "routes/auth.ts"),
   route("healthz", "routes/healthz.ts"),
+  route("api/v1/predict", "routes/api.v1.predict.ts"),
   route("station", "routes/station.tsx"),
   layout("routes/shell.tsx", [
     route("account", "routes/account.tsx"),

@@ -1,0 +1,1417 @@
+// Transient heat conduction in a slab, an infinite cylinder, a sphere and a rectangular block with
+// constant properties, by separation of variables (Fourier series with exponential decay).
+// Pure TypeScript with no platform APIs, so the browser and the server run the same numbers.
+//
+// One ambient temperature T∞ for every face of a body, for simplicity: a pan sits in one air (or one
+// bath) at a time, and the coefficients already carry the difference between its faces. A move
+// (fridge to ice bath) is a new solution started from the old one's profile: continueFrom.
+//
+// Accuracy: for any t > 0 the series keeps the fewest terms whose tail is provably below tolK/10
+// (default tolK 0.01 K). In the first moments after a start, where a long series would be needed, the
+// body is still at its initial state away from its faces, and each face follows the exact
+// semi-infinite solution with its own coefficient (Carslaw & Jaeger ch. II; Incropera & DeWitt §5.7,
+// eq. 5.60). That form is used wherever its own error bound is below tolK/10 and it is the cheaper
+// of the two, and past the term cap, where a uniform start is still well within tolK and a
+// non-uniform one is off by about (curvature of the start) × αt.
+
+import { besselJ0, besselJ1 } from "./bessel";
+import {
+  cylinderCoefficient,
+  cylinderRoot,
+  facePhase,
+  findRootBrent,
+  sinMinusXCos,
+  slabRoot,
+  sphereCoefficient,
+  sphereRoot,
+} from "./roots";
+
+/** Surface heat-transfer coefficient in W/m²K: 0 insulated, "inf" held at the ambient temperature. */
+export type SurfaceH = number | "inf";
+
+/**
+ * Body shapes. Slab depth runs from the bottom face (x = 0) to the top face (x = depth). A block is a
+ * pan's contents: walls on the four sides (one coefficient), base and top (lid or open surface).
+ */
+export type Geometry =
+  | { shape: "slab"; depthM: number; bottomH: SurfaceH; topH: SurfaceH }
+  | { shape: "cylinder"; radiusM: number; h: SurfaceH }
+  | { shape: "sphere"; radiusM: number; h: SurfaceH }
+  | {
+      shape: "block";
+      lengthM: number;
+      widthM: number;
+      depthM: number;
+      wallH: SurfaceH;
+      bottomH: SurfaceH;
+      topH: SurfaceH;
+    };
+
+/** Thermal conductivity k (W/m·K) and diffusivity α (m²/s). */
+export type Conductor = { k: number; alpha: number };
+
+/**
+ * Initial temperature in °C: uniform, samples on a uniform grid from the bottom face to the top face
+ * (linear between samples), or a function of the depth coordinate in metres. Non-uniform starts are
+ * for slabs only.
+ */
+export type Initial = number | { samplesC: readonly number[] } | ((xM: number) => number);
+
+export type Probe = "center" | "warmest" | "mean";
+
+/** A point in a block, metres from one corner: x along the length, y across, z up from the base. */
+export interface BlockPoint {
+  xM: number;
+  yM: number;
+  zM: number;
+}
+
+export interface ConductionOptions {
+  /** Largest error allowed in any temperature, K. Default 0.01. */
+  tolK?: number;
+  /**
+   * Most series terms per evaluation for a uniform start before the early-time form takes over.
+   * Default 1000. A non-uniform start sums until the early-time form is accurate for it, up to 600
+   * terms (4000 for a continued solution).
+   */
+  maxTerms?: number;
+  /**
+   * Sum the series up to maxTerms even where a uniform slab's early-time form is just as exact and
+   * cheaper (for cross-checks). Default false.
+   */
+  preferSeries?: boolean;
+}
+
+export interface Solution {
+  readonly geometry: Geometry;
+  readonly material: Conductor;
+  readonly ambientC: number;
+  readonly tolK: number;
+  /**
+   * Temperature at time tS (s) at a depth from the bottom (slab; block: on the vertical centre line),
+   * a radius (cylinder, sphere), or a block point.
+   */
+  temperatureAt(tS: number, at: number | BlockPoint): number;
+  /** At the geometric centre. */
+  centerC(tS: number): number;
+  /** Highest temperature anywhere in the body, found numerically. */
+  warmestC(tS: number): number;
+  /** Volume (mass) average. */
+  meanC(tS: number): number;
+  /** Temperatures at `points` evenly spaced depths from bottom to top (block: centre line; radial: 0 to R). */
+  profile(tS: number, points?: number): { xM: number[]; c: number[] };
+  /**
+   * First time (s, to 0.5 s) at which the probe is at or below targetC; 0 if it starts there; null if
+   * the ambient is not below the target or it takes longer than maxS. Brackets on a time grid, so a
+   * dip shorter than one grid step after a non-uniform start can be missed.
+   */
+  reachTime(targetC: number, which: Probe, maxS?: number): number | null;
+  /** Series terms one evaluation sums at tS (block: over all factors); 0 at t = 0 and where the early-time form is used. */
+  terms(tS: number): number;
+}
+
+const PI = Math.PI;
+const PI2 = PI * PI;
+const INV_SQRT_PI = 1 / Math.sqrt(PI);
+const DEFAULT_TOL_K = 0.01;
+const DEFAULT_MAX_TERMS = 1000;
+// Projections of a non-uniform start cost one quadrature per term: fewer terms before the early-time
+// form, whose error there (curvature of the start × αt) stays in the thousandths of a kelvin.
+const MAX_TERMS_PROFILE = 600;
+// A continued solution's projection is closed-form and cheap: it may sum far longer.
+const MAX_TERMS_MODAL = 4000;
+const SERIES_PREFERRED_TERMS = 24;
+const FAR = 27; // erfc(27) < 1e-318: beyond η = 27 a face has not been felt
+
+// ---------------------------------------------------------------------------------------------
+// Error function, complementary and scaled.
+
+/** erfcx(x) = exp(x²)·erfc(x): series for |x| < 2 (A&S 7.1.6), continued fraction above (A&S 7.1.14). */
+export function erfcx(x: number): number {
+  if (x < 0) return 2 * Math.exp(x * x) - erfcx(-x);
+  if (x < 2) {
+    const x2 = 2 * x * x;
+    let term = x;
+    let sum = x;
+    for (let n = 1; n < 200 && term > 1e-17 * sum; n++) {
+      term *= x2 / (2 * n + 1);
+      sum += term;
+    }
+    return Math.exp(x * x) - 2 * INV_SQRT_PI * sum;
+  }
+  let f = x;
+  let c = x;
+  let d = 0;
+  for (let n = 1; n < 500; n++) {
+    const a = 0.5 * n;
+    d = 1 / (x + a * d);
+    c = x + a / c;
+    const delta = c * d;
+    f *= delta;
+    if (Math.abs(delta - 1) < 1e-16) break;
+  }
+  return INV_SQRT_PI / f;
+}
+
+/** erfc(x) for x ≥ 0. */
+export function erfc(x: number): number {
+  if (x < 0) return 2 - erfc(-x);
+  return Math.exp(-x * x) * erfcx(x);
+}
+
+// exp(−η²)·erfcx(z), safe for the slightly negative z of a curved surface's effective coefficient.
+function gaussErfcx(eta: number, z: number): number {
+  if (z >= 0) return Math.exp(-eta * eta) * erfcx(z);
+  return 2 * Math.exp(z * z - eta * eta) - Math.exp(-eta * eta) * erfcx(-z);
+}
+
+// E(η, β) = [erfc η − exp(−η²) erfcx(η + β)] / β, and its limit 2·ierfc(η) as β → 0.
+function faceKernel(eta: number, beta: number): number {
+  const g = Math.exp(-eta * eta);
+  const ex = erfcx(eta);
+  if (Math.abs(beta) < 1e-4) {
+    const d1 = 2 * eta * ex - 2 * INV_SQRT_PI;
+    const d2 = 2 * ex + 2 * eta * d1;
+    const d3 = 4 * d1 + 2 * eta * d2;
+    return -g * (d1 + 0.5 * beta * d2 + (beta * beta * d3) / 6);
+  }
+  return (g * ex - gaussErfcx(eta, eta + beta)) / beta;
+}
+
+/**
+ * Change w at dimensionless distance s from a face of a semi-infinite solid whose excess temperature
+ * starts as f0 + g·s, with face Biot number bi on the length that made s and Fo dimensionless:
+ *   fixed face: w = −f0·erfc η;  convective: w = −(bi·f0 − g)·√Fo·E(η, bi√Fo), η = s/(2√Fo)
+ * (Carslaw & Jaeger ch. II, surface heat transfer; Incropera & DeWitt eq. 5.60 for g = 0; the
+ * linear part g·s is itself a solution, which leaves only the face's flux mismatch to diffuse in).
+ */
+function faceResponse(s: number, fo: number, bi: number, f0: number, g: number): number {
+  const sq = Math.sqrt(fo);
+  const eta = s / (2 * sq);
+  if (eta > FAR) return 0;
+  if (bi === Infinity) return -f0 * erfc(eta);
+  return -(bi * f0 - g) * sq * faceKernel(eta, bi * sq);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Quadrature and one-dimensional searches.
+
+function gaussLegendre(m: number): { x: Float64Array; w: Float64Array } {
+  const x = new Float64Array(m);
+  const w = new Float64Array(m);
+  for (let i = 0; i < m; i++) {
+    let z = Math.cos((PI * (i + 0.75)) / (m + 0.5));
+    let dp = 0;
+    for (let it = 0; it < 100; it++) {
+      let p0 = 1;
+      let p1 = z;
+      for (let k = 2; k <= m; k++) {
+        const p2 = ((2 * k - 1) * z * p1 - (k - 1) * p0) / k;
+        p0 = p1;
+        p1 = p2;
+      }
+      dp = (m * (z * p1 - p0)) / (z * z - 1);
+      const dz = p1 / dp;
+      z -= dz;
+      if (Math.abs(dz) < 1e-16) break;
+    }
+    x[i] = z;
+    w[i] = 2 / ((1 - z * z) * dp * dp);
+  }
+  return { x, w };
+}
+
+const GL8 = gaussLegendre(8);
+
+/** ∫_a^b f by composite 8-point Gauss–Legendre on `panels` equal panels. */
+function integrate(f: (s: number) => number, a: number, b: number, panels: number): number {
+  const h = (b - a) / panels;
+  let sum = 0;
+  for (let p = 0; p < panels; p++) {
+    const mid = a + (p + 0.5) * h;
+    for (let i = 0; i < 8; i++) sum += GL8.w[i] * f(mid + 0.5 * h * GL8.x[i]);
+  }
+  return 0.5 * h * sum;
+}
+
+const INV_PHI = (Math.sqrt(5) - 1) / 2;
+
+/** Largest value of f on [0, 1]: samples, then golden-section search around the best sample. */
+function maximiseOnUnit(f: (s: number) => number, samples = 16): { s: number; v: number } {
+  let bestS = 0;
+  let best = -Infinity;
+  for (let i = 0; i <= samples; i++) {
+    const s = i / samples;
+    const v = f(s);
+    if (v > best) {
+      best = v;
+      bestS = s;
+    }
+  }
+  let a = Math.max(0, bestS - 1 / samples);
+  let b = Math.min(1, bestS + 1 / samples);
+  let c = b - INV_PHI * (b - a);
+  let d = a + INV_PHI * (b - a);
+  let fc = f(c);
+  let fd = f(d);
+  while (b - a > 1e-6) {
+    if (fc > fd) {
+      b = d;
+      d = c;
+      fd = fc;
+      c = b - INV_PHI * (b - a);
+      fc = f(c);
+    } else {
+      a = c;
+      c = d;
+      fc = fd;
+      d = a + INV_PHI * (b - a);
+      fd = f(d);
+    }
+  }
+  if (fc > best) return { s: c, v: fc };
+  if (fd > best) return { s: d, v: fd };
+  return { s: bestS, v: best };
+}
+
+// ---------------------------------------------------------------------------------------------
+// One-dimensional series, dimensionless: position s ∈ [0, 1], Fourier number fo, excess temperature
+// (T − T∞, or θ for the factors of a block).
+
+interface Series1D {
+  value(s: number, fo: number): number;
+  centre(fo: number): number;
+  mean(fo: number): number;
+  terms(fo: number): number;
+  /** A slab's state as a sine series at fo, when it has one. */
+  state?(fo: number): ModalState | null;
+}
+
+class ConstantSeries implements Series1D {
+  constructor(private readonly u: number) {}
+  value(): number {
+    return this.u;
+  }
+  centre(): number {
+    return this.u;
+  }
+  mean(): number {
+    return this.u;
+  }
+  terms(): number {
+    return 1;
+  }
+  state(): ModalState {
+    return { constant: this.u, zeta: [], phi: [], amp: [] };
+  }
+}
+
+// Σ_{m ≥ N} exp(−m²π²Fo) ≤ exp(−N²π²Fo) / (1 − exp(−(2N+1)π²Fo)): successive ratios only shrink.
+function gaussTail(n: number, fo: number): number {
+  return Math.exp(-n * n * PI2 * fo) / -Math.expm1(-(2 * n + 1) * PI2 * fo);
+}
+
+/**
+ * Common machinery: lazily grown modes ζₙ (all roots satisfy ζₙ ≥ (n−1)π), amplitude bounds for the
+ * tail, the number of terms for a Fourier number, and a cache of exp(−ζₙ²Fo) for the last Fo.
+ */
+abstract class ModalSeries implements Series1D {
+  protected count = 0;
+  // Plain arrays: a solution is created for every trial of a fit, and typed arrays cost far more to
+  // allocate than the few terms most solutions ever need.
+  protected readonly zeta: number[] = [];
+  protected readonly amp: number[] = []; // coefficient of the eigenfunction
+  protected readonly ampCentre: number[] = []; // coefficient × eigenfunction at the centre
+  protected readonly ampMean: number[] = []; // coefficient × mean of the eigenfunction
+  private readonly decay: number[] = [];
+  private decayFo = NaN;
+  private decayN = 0;
+  private termsFo = NaN;
+  private termsN = 0;
+  private lastSeriesN = 0;
+  /** Up to this Fo the early-time form is exact to within tol/10 (0: only when the cap forces it). */
+  protected earlyUpToFo = 0;
+
+  constructor(
+    protected readonly tol: number,
+    protected readonly cap: number,
+  ) {}
+
+  /** Bound on |aₙ·eigenfunction| for every n > N (N ≥ 1). */
+  protected abstract ampTail(n: number): number;
+  /** Computes mode n (0-based index i = n − 1) into the arrays. */
+  protected abstract computeMode(i: number): void;
+  protected abstract eigen(i: number, s: number): number;
+  protected abstract initial(s: number): number;
+  protected abstract initialMean(): number;
+  protected abstract early(s: number, fo: number): number;
+  protected abstract earlyMean(fo: number): number;
+
+  protected ensure(n: number): void {
+    if (n <= this.count) return;
+    for (let i = this.count; i < n; i++) this.computeMode(i);
+    this.count = n;
+  }
+
+  private tailOk(n: number, fo: number): boolean {
+    return this.ampTail(n) * gaussTail(n, fo) < this.tol / 10;
+  }
+
+  /** Terms needed at fo, or 0 when more than the cap would be: the early-time form applies. */
+  terms(fo: number): number {
+    if (fo === this.termsFo) return this.termsN;
+    let n: number;
+    // Where both forms are good, a long series loses to two erfc evaluations.
+    if (fo <= this.earlyUpToFo && !this.tailOk(SERIES_PREFERRED_TERMS, fo)) n = 0;
+    else {
+      n = this.countTerms(fo);
+      if (n > 0) this.lastSeriesN = n;
+    }
+    this.termsFo = fo;
+    this.termsN = n;
+    return n;
+  }
+
+  /** Terms the series alone needs at fo (0 past the cap), whichever form evaluations use. */
+  protected countTerms(fo: number): number {
+    if (this.tailOk(1, fo)) return 1;
+    // Times close together (a search, a chart) mostly need the same count as the last one.
+    const last = this.lastSeriesN;
+    if (last > 1 && this.tailOk(last, fo) && !this.tailOk(last - 1, fo)) return last;
+    const lim = this.tol / 10;
+    const scale = PI2 * fo;
+    // With exp(−N²π²Fo)·A(1) ≤ lim the tail is usually small enough already.
+    let hi = Math.max(2, Math.ceil(Math.sqrt(Math.log(this.ampTail(1) / lim) / scale)));
+    if (hi > this.cap) hi = this.cap;
+    while (hi < this.cap && !this.tailOk(hi, fo)) hi = Math.min(this.cap, Math.ceil(1.25 * hi) + 1);
+    if (!this.tailOk(hi, fo)) return 0;
+    // Below √(ln(A(hi)/lim)/(π²Fo)) even the first neglected term is too big.
+    let lo = Math.max(1, Math.floor(Math.sqrt(Math.max(0, Math.log(this.ampTail(hi) / lim)) / scale)));
+    if (lo >= hi) lo = hi - 1;
+    if (this.tailOk(lo, fo)) return lo === 1 ? 1 : this.countDown(lo, fo);
+    while (hi - lo > 1) {
+      const mid = (lo + hi) >> 1;
+      if (this.tailOk(mid, fo)) hi = mid;
+      else lo = mid;
+    }
+    return hi;
+  }
+
+  private countDown(n: number, fo: number): number {
+    while (n > 1 && this.tailOk(n - 1, fo)) n--;
+    return n;
+  }
+
+  protected decays(fo: number, n: number): number[] {
+    this.ensure(n);
+    if (fo !== this.decayFo) {
+      this.decayFo = fo;
+      this.decayN = 0;
+    }
+    const z = this.zeta;
+    const d = this.decay;
+    for (let i = this.decayN; i < n; i++) d[i] = Math.exp(-z[i] * z[i] * fo);
+    if (n > this.decayN) this.decayN = n;
+    return d;
+  }
+
+  /** Whether the early-time form is within tol/10 at this one point (see SlabSeries). */
+  protected earlyAt(_s: number, _fo: number): boolean {
+    return false;
+  }
+
+  value(s: number, fo: number): number {
+    if (fo === 0) return this.initial(s);
+    const n = this.terms(fo);
+    if (n === 0 || (n > SERIES_PREFERRED_TERMS && this.earlyAt(s, fo))) return this.early(s, fo);
+    const d = this.decays(fo, n);
+    let sum = 0;
+    for (let i = 0; i < n; i++) sum += this.amp[i] * this.eigen(i, s) * d[i];
+    return sum;
+  }
+
+  centre(fo: number): number {
+    if (fo === 0) return this.initial(0.5);
+    const n = this.terms(fo);
+    if (n === 0 || (n > SERIES_PREFERRED_TERMS && this.earlyAt(this.centreS(), fo))) {
+      return this.early(this.centreS(), fo);
+    }
+    const d = this.decays(fo, n);
+    const a = this.ampCentre;
+    let sum = 0;
+    for (let i = 0; i < n; i++) sum += a[i] * d[i];
+    return sum;
+  }
+
+  mean(fo: number): number {
+    if (fo === 0) return this.initialMean();
+    const n = this.terms(fo);
+    if (n === 0) return this.earlyMean(fo);
+    const d = this.decays(fo, n);
+    const a = this.ampMean;
+    let sum = 0;
+    for (let i = 0; i < n; i++) sum += a[i] * d[i];
+    return sum;
+  }
+
+  protected centreS(): number {
+    return 0.5;
+  }
+}
+
+// cos φ and sin 2φ of a face phase φ = atan(ζ/B), exact at B = 0 and B = ∞.
+function cosPhase(zeta: number, bi: number): number {
+  if (bi === 0) return 0;
+  if (bi === Infinity) return 1;
+  return bi / Math.hypot(zeta, bi);
+}
+
+function sin2Phase(zeta: number, bi: number): number {
+  if (bi === 0 || bi === Infinity) return 0;
+  return (2 * zeta * bi) / (zeta * zeta + bi * bi);
+}
+
+/**
+ * Largest Fo at which the two faces' semi-infinite solutions still describe a uniformly started slab
+ * to within tol/10. What they leave out is each face's response arriving at the other face, at least
+ * one depth away: below 2|U|·exp(−1/(4Fo))·(1 + 1/√(πFo)), the size of erfc(1/(2√Fo)) and of its
+ * gradient there (Carslaw & Jaeger ch. III, images between two planes). Fixed-point iteration.
+ */
+function earlyLimitFo(u: number, tol: number): number {
+  if (u === 0) return 0;
+  let fo = 0.01;
+  for (let i = 0; i < 6; i++) fo = 1 / (4 * Math.log((20 * Math.abs(u) * (1 + 1 / Math.sqrt(PI * fo))) / tol));
+  return 0.9 * fo;
+}
+
+/**
+ * A slab's state as a truncated series: constant + Σ amp·sin(zeta·ξ + phi). What a continued solution
+ * starts from, so that its projection has a closed form.
+ */
+interface ModalState {
+  constant: number;
+  zeta: number[];
+  phi: number[];
+  amp: number[];
+}
+
+/**
+ * Start of a slab: uniform excess, or a profile u(ξ) with its slopes du/dξ at the faces, a bound on
+ * |u''| (for the early-time form's error) and, when it is itself a series, its modes.
+ */
+type SlabStart =
+  | { kind: "uniform"; u: number }
+  | {
+      kind: "profile";
+      u: (s: number) => number;
+      slope0: number;
+      slope1: number;
+      curvature: number;
+      /** Linear pieces of a sampled start: quadrature panels are aligned with them. */
+      segments: number;
+      modes?: ModalState;
+    };
+
+interface QuadratureLevel {
+  panels: number;
+  nodes: Float64Array;
+  weightedU: Float64Array; // quadrature weight × u at the node
+}
+
+// ∫₀¹ cos(cξ + d) dξ = cos(d + c/2)·sin(c/2)/(c/2), stable as c → 0.
+function cosIntegral(c: number, d: number): number {
+  const h = 0.5 * c;
+  return Math.cos(d + h) * (h === 0 ? 1 : Math.sin(h) / h);
+}
+
+/**
+ * Slab 0 ≤ ξ ≤ 1 with face Biot numbers b0 (ξ = 0, bottom) and b1 (ξ = 1, top), on the full depth.
+ * Eigenfunctions Xₙ = sin(ζₙξ + φ0), tan φi = ζₙ/bi; ζₙ + φ0 + φ1 = nπ (Özışık, Heat Conduction,
+ * ch. 2, two convective faces, in phase form); norm ∫Xₙ² = ½ + (sin 2φ0 + sin 2φ1)/(4ζₙ).
+ * Uniform start U: aₙ = U [cos φ0 − (−1)ⁿ cos φ1] / (ζₙ · norm) (∫Xₙ in closed form).
+ * Profile start u(ξ): aₙ = ∫ u Xₙ dξ / norm (Özışık, Heat Conduction, ch. 2), by composite
+ * Gauss–Legendre, or in closed form when u is itself a sine series (a continued solution):
+ * ∫ sin(aξ + p) sin(bξ + q) dξ = ½[∫cos((a−b)ξ + p − q) − ∫cos((a+b)ξ + p + q)].
+ */
+class SlabSeries extends ModalSeries {
+  private readonly phi: number[] = [];
+  private levels: QuadratureLevel[] = [];
+  private l1 = 0;
+  private startMean = 0;
+  private pointwise = false;
+  private bends: Float64Array[] | null = null; // range-maximum table of |u''| on a grid
+
+  constructor(
+    private readonly b0: number,
+    private readonly b1: number,
+    private readonly start: SlabStart,
+    tol: number,
+    cap: number,
+    preferSeries: boolean,
+  ) {
+    // A profile keeps summing until the early-time form is accurate for it; a projection by quadrature
+    // costs one pass over the nodes per term, so it stops sooner.
+    super(tol, start.kind === "uniform" ? cap : start.modes ? MAX_TERMS_MODAL : MAX_TERMS_PROFILE);
+    if (start.kind === "uniform") {
+      if (!preferSeries) this.earlyUpToFo = earlyLimitFo(start.u, tol);
+      return;
+    }
+    let peak = 0;
+    if (start.modes) {
+      const m = start.modes;
+      let l1Bound = Math.abs(m.constant);
+      let mean = m.constant;
+      for (let j = 0; j < m.zeta.length; j++) {
+        l1Bound += Math.abs(m.amp[j]);
+        mean += m.amp[j] * (m.zeta[j] === 0 ? Math.sin(m.phi[j]) : cosIntegral(m.zeta[j], m.phi[j] - 0.5 * PI));
+      }
+      this.l1 = l1Bound;
+      this.startMean = mean;
+      peak = l1Bound;
+    } else {
+      const level = this.level(64);
+      let l1 = 0;
+      let mean = 0;
+      for (let j = 0; j < level.nodes.length; j++) {
+        l1 += Math.abs(level.weightedU[j]);
+        mean += level.weightedU[j];
+      }
+      this.l1 = l1;
+      this.startMean = mean;
+      for (let j = 0; j <= 256; j++) peak = Math.max(peak, Math.abs(start.u(j / 256)));
+    }
+    if (!preferSeries) {
+      this.pointwise = true;
+      // Error of the early-time form: curvature × Fo (the start is frozen apart from its faces'
+      // layers, and taken as linear inside them), plus each face's response reaching the other face.
+      const byCurvature = start.curvature > 0 ? tol / (20 * start.curvature) : Infinity;
+      this.earlyUpToFo = Math.min(byCurvature, earlyLimitFo(peak, tol));
+    }
+  }
+
+  // Away from both faces the early-time form is the start itself, off by about Fo × the largest |u''|
+  // within a few diffusion lengths: a point in the flat middle of a continued profile needs no series.
+  protected earlyAt(s: number, fo: number): boolean {
+    if (!this.pointwise) return false;
+    const reach = 12 * Math.sqrt(fo);
+    if (s - reach <= 0 || s + reach >= 1) return false;
+    return fo * this.bendWithin(s - reach, s + reach) <= this.tol / 20;
+  }
+
+  private bendWithin(a: number, b: number): number {
+    const grid = 512;
+    if (!this.bends) {
+      const st = this.start;
+      const base = new Float64Array(grid + 1);
+      if (st.kind === "profile" && st.modes) {
+        // u'' = −Σ ζ²·a·sin(ζξ + φ) on the grid, each mode by the recurrence
+        // sin((j+1)θ + φ) = 2cos θ·sin(jθ + φ) − sin((j−1)θ + φ).
+        const m = st.modes;
+        const sum = new Float64Array(grid + 1);
+        for (let i = 0; i < m.zeta.length; i++) {
+          const th = m.zeta[i] / grid;
+          const c2 = 2 * Math.cos(th);
+          const w = -m.zeta[i] * m.zeta[i] * m.amp[i];
+          let prev = Math.sin(m.phi[i] - th);
+          let here = Math.sin(m.phi[i]);
+          for (let j = 0; j <= grid; j++) {
+            sum[j] += w * here;
+            const next = c2 * here - prev;
+            prev = here;
+            here = next;
+          }
+        }
+        for (let j = 0; j <= grid; j++) base[j] = Math.abs(sum[j]);
+      } else {
+        const u = st.kind === "profile" ? st.u : () => 0;
+        const values = new Float64Array(grid + 1);
+        for (let j = 0; j <= grid; j++) values[j] = u(j / grid);
+        for (let j = 1; j < grid; j++) base[j] = Math.abs(values[j + 1] - 2 * values[j] + values[j - 1]) * grid * grid;
+        base[0] = base[1];
+        base[grid] = base[grid - 1];
+      }
+      const levels = [base];
+      for (let w = 1; 2 * w <= grid + 1; w *= 2) {
+        const prev = levels[levels.length - 1];
+        const next = new Float64Array(grid + 1);
+        for (let j = 0; j + 2 * w <= grid + 1; j++) next[j] = Math.max(prev[j], prev[j + w]);
+        levels.push(next);
+      }
+      this.bends = levels;
+    }
+    // One grid cell of margin on each side: a bend between grid points is seen by its neighbours.
+    const lo = Math.max(0, Math.floor(a * grid) - 1);
+    const hi = Math.min(grid, Math.ceil(b * grid) + 1);
+    const k = Math.floor(Math.log2(hi - lo + 1));
+    const t = this.bends[k];
+    return Math.max(t[lo], t[hi - (1 << k) + 1]);
+  }
+
+  protected ampTail(n: number): number {
+    // |aₙ| ≤ ∫|u|·|Xₙ| / norm ≤ 2‖u‖₁ (norm ≥ ½); uniform: |aₙ| ≤ 4|U|/ζₙ ≤ 4|U|/(nπ) for the
+    // (n+1)-th mode on.
+    if (this.start.kind === "uniform") return (4 * Math.abs(this.start.u)) / (n * PI);
+    return 2 * this.l1;
+  }
+
+  private level(panelsWanted: number): QuadratureLevel {
+    const start = this.start;
+    if (start.kind !== "profile") throw new Error("uniform start has no quadrature");
+    for (const l of this.levels) if (l.panels >= panelsWanted) return l;
+    const seg = start.segments;
+    let panels = Math.max(panelsWanted, this.levels.length ? 2 * this.levels[this.levels.length - 1].panels : 0);
+    if (seg > 0) panels = seg * Math.ceil(panels / seg);
+    const nodes = new Float64Array(panels * 8);
+    const weightedU = new Float64Array(panels * 8);
+    const h = 1 / panels;
+    for (let p = 0; p < panels; p++) {
+      const mid = (p + 0.5) * h;
+      for (let i = 0; i < 8; i++) {
+        const x = mid + 0.5 * h * GL8.x[i];
+        nodes[p * 8 + i] = x;
+        weightedU[p * 8 + i] = 0.5 * h * GL8.w[i] * start.u(x);
+      }
+    }
+    const l = { panels, nodes, weightedU };
+    this.levels.push(l);
+    return l;
+  }
+
+  protected computeMode(i: number): void {
+    const n = i + 1;
+    const guess = i >= 2 ? this.zeta[i - 1] + PI : undefined;
+    const z = slabRoot(this.b0, this.b1, n, guess !== undefined && guess < n * PI ? guess : undefined);
+    const phi0 = z === 0 ? 0.5 * PI : facePhase(z, this.b0);
+    const norm = z === 0 ? 1 : 0.5 + (sin2Phase(z, this.b0) + sin2Phase(z, this.b1)) / (4 * z);
+    // ∫₀¹ Xₙ dξ = [cos φ0 − (−1)ⁿ cos φ1] / ζₙ, since ζₙ + φ0 = nπ − φ1.
+    const sign = n % 2 === 0 ? -1 : 1;
+    const meanX = z === 0 ? 1 : (cosPhase(z, this.b0) + sign * cosPhase(z, this.b1)) / z;
+    const st = this.start;
+    let a: number;
+    if (st.kind === "uniform") a = (st.u * meanX) / norm;
+    else if (st.modes) {
+      const m = st.modes;
+      let sum = m.constant * meanX;
+      for (let j = 0; j < m.zeta.length; j++) {
+        const zj = m.zeta[j];
+        const pj = m.phi[j];
+        sum += 0.5 * m.amp[j] * (cosIntegral(zj - z, pj - phi0) - cosIntegral(zj + z, pj + phi0));
+      }
+      a = sum / norm;
+    } else {
+      // 8-point Gauss–Legendre with at most 3 radians of phase per panel resolves Xₙ to rounding level.
+      const lvl = this.level(Math.ceil(z / 3));
+      let sum = 0;
+      const x = lvl.nodes;
+      const wu = lvl.weightedU;
+      for (let j = 0; j < x.length; j++) sum += wu[j] * Math.sin(z * x[j] + phi0);
+      a = sum / norm;
+    }
+    this.zeta[i] = z;
+    this.phi[i] = phi0;
+    this.amp[i] = a;
+    this.ampCentre[i] = a * Math.sin(0.5 * z + phi0);
+    this.ampMean[i] = a * meanX;
+  }
+
+  protected eigen(i: number, s: number): number {
+    return Math.sin(this.zeta[i] * s + this.phi[i]);
+  }
+
+  /** The series at fo, truncated where its tail is below tol/10; null past the term cap. */
+  state(fo: number): ModalState | null {
+    if (fo === 0) return this.start.kind === "uniform" ? { constant: this.start.u, zeta: [], phi: [], amp: [] } : null;
+    const n = this.countTerms(fo);
+    if (n === 0) return null;
+    const d = this.decays(fo, n);
+    return {
+      constant: 0,
+      zeta: this.zeta.slice(0, n),
+      phi: this.phi.slice(0, n),
+      amp: this.amp.slice(0, n).map((a, i) => a * d[i]),
+    };
+  }
+
+  protected initial(s: number): number {
+    return this.start.kind === "uniform" ? this.start.u : this.start.u(s);
+  }
+
+  protected initialMean(): number {
+    return this.start.kind === "uniform" ? this.start.u : this.startMean;
+  }
+
+  protected early(s: number, fo: number): number {
+    const st = this.start;
+    const u0 = st.kind === "uniform" ? st.u : st.u(0);
+    const u1 = st.kind === "uniform" ? st.u : st.u(1);
+    const g0 = st.kind === "uniform" ? 0 : st.slope0;
+    const g1 = st.kind === "uniform" ? 0 : -st.slope1;
+    return this.initial(s) + faceResponse(s, fo, this.b0, u0, g0) + faceResponse(1 - s, fo, this.b1, u1, g1);
+  }
+
+  protected earlyMean(fo: number): number {
+    const st = this.start;
+    const u0 = st.kind === "uniform" ? st.u : st.u(0);
+    const u1 = st.kind === "uniform" ? st.u : st.u(1);
+    const g0 = st.kind === "uniform" ? 0 : st.slope0;
+    const g1 = st.kind === "uniform" ? 0 : -st.slope1;
+    const reach = Math.min(1, 2 * FAR * Math.sqrt(fo));
+    const layer0 = integrate((s) => faceResponse(s, fo, this.b0, u0, g0), 0, reach, 16);
+    const layer1 = integrate((s) => faceResponse(s, fo, this.b1, u1, g1), 0, reach, 16);
+    return this.initialMean() + layer0 + layer1;
+  }
+}
+
+/**
+ * Infinite cylinder or sphere, radius 1, uniform start U, surface Biot number bi = hR/k.
+ * Cylinder: θ = Σ Cₙ J0(ζₙ r) exp(−ζₙ²Fo), ζ J1(ζ)/J0(ζ) = Bi (Incropera & DeWitt §5.6.1, Table 5.1);
+ * mean weight 2 J1(ζₙ)/ζₙ (Incropera & DeWitt §5.6.1, energy ratio term by term).
+ * Sphere: θ = Σ Cₙ sin(ζₙ r)/(ζₙ r) exp(−ζₙ²Fo), 1 − ζ cot ζ = Bi (Incropera & DeWitt §5.6.2, Table 5.1);
+ * mean weight 3 (sin ζₙ − ζₙ cos ζₙ)/ζₙ³ (Incropera & DeWitt §5.6.2, energy ratio term by term).
+ */
+class RadialSeries extends ModalSeries {
+  constructor(
+    private readonly sphere: boolean,
+    private readonly bi: number,
+    private readonly u: number,
+    tol: number,
+    cap: number,
+  ) {
+    super(tol, cap);
+  }
+
+  protected ampTail(): number {
+    // |Cₙ| ≤ 2 with |eigenfunction| ≤ 1 (checked over Bi from 1e-4 to ∞ in the tests); the
+    // Dirichlet sphere has |Cₙ| = 2 for every n.
+    return 2 * Math.abs(this.u);
+  }
+
+  protected computeMode(i: number): void {
+    const n = i + 1;
+    const z = this.sphere ? sphereRoot(this.bi, n) : cylinderRoot(this.bi, n);
+    const c = this.u * (this.sphere ? sphereCoefficient(z) : cylinderCoefficient(z));
+    const meanW = this.sphere ? (3 * sinMinusXCos(z)) / (z * z * z) : (2 * besselJ1(z)) / z;
+    this.zeta[i] = z;
+    this.amp[i] = c;
+    this.ampCentre[i] = c;
+    this.ampMean[i] = c * meanW;
+  }
+
+  protected eigen(i: number, r: number): number {
+    const x = this.zeta[i] * r;
+    if (this.sphere) return x === 0 ? 1 : Math.sin(x) / x;
+    return besselJ0(x);
+  }
+
+  protected initial(): number {
+    return this.u;
+  }
+
+  protected initialMean(): number {
+    return this.u;
+  }
+
+  protected centreS(): number {
+    return 0;
+  }
+
+  // v = r·u (sphere) or v = √r·u (cylinder, dropping v/(4r²), of relative size Fo in the thin layer)
+  // obeys the slab equation near r = 1 with the effective face Biot number Bi − 1 or Bi − ½
+  // (Carslaw & Jaeger, ch. IX for the sphere's v = r·u; ch. VII for the cylinder). The start is linear to first order in
+  // the distance from the surface: v ≈ U(1 − s) or U(1 − s/2).
+  private layer(r: number, fo: number): number {
+    const p = this.sphere ? 1 : 0.5;
+    const biEff = this.bi === Infinity ? Infinity : this.bi - p;
+    const w = faceResponse(1 - r, fo, biEff, this.u, -p * this.u);
+    if (w === 0 || r === 0) return 0;
+    return w / (this.sphere ? r : Math.sqrt(r));
+  }
+
+  protected early(r: number, fo: number): number {
+    return this.u + this.layer(r, fo);
+  }
+
+  protected earlyMean(fo: number): number {
+    const reach = Math.min(1, 2 * FAR * Math.sqrt(fo));
+    const weight = this.sphere ? (r: number) => 3 * r * r : (r: number) => 2 * r;
+    return this.u + integrate((r) => this.layer(r, fo) * weight(r), 1 - reach, 1, 16);
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Solutions.
+
+function toBiot(h: SurfaceH, lengthM: number, k: number): number {
+  if (h === "inf" || h === Infinity) return Infinity;
+  if (!(h >= 0) || !Number.isFinite(h)) throw new RangeError(`surface coefficient must be ≥ 0 or "inf", got ${h}`);
+  return (h * lengthM) / k;
+}
+
+function checkLength(name: string, v: number): void {
+  if (!(v > 0) || !Number.isFinite(v)) throw new RangeError(`${name} must be a positive length, got ${v}`);
+}
+
+function checkTime(tS: number): void {
+  if (!(tS >= 0) || !Number.isFinite(tS)) throw new RangeError(`time must be ≥ 0 s, got ${tS}`);
+}
+
+abstract class BaseSolution implements Solution {
+  constructor(
+    readonly geometry: Geometry,
+    readonly material: Conductor,
+    readonly ambientC: number,
+    readonly tolK: number,
+  ) {}
+
+  abstract temperatureAt(tS: number, at: number | BlockPoint): number;
+  abstract centerC(tS: number): number;
+  abstract warmestC(tS: number): number;
+  abstract meanC(tS: number): number;
+  abstract terms(tS: number): number;
+  protected abstract extentM(): number;
+  protected abstract lineC(tS: number, xM: number): number;
+  /** L²/α of the body's shortest conduction length, s. */
+  protected abstract timeScaleS(): number;
+
+  profile(tS: number, points = 41): { xM: number[]; c: number[] } {
+    checkTime(tS);
+    const n = Math.max(2, Math.floor(points));
+    const len = this.extentM();
+    const xM: number[] = [];
+    const c: number[] = [];
+    for (let i = 0; i < n; i++) {
+      const x = (len * i) / (n - 1);
+      xM.push(x);
+      c.push(this.lineC(tS, x));
+    }
+    return { xM, c };
+  }
+
+  reachTime(targetC: number, which: Probe, maxS = 48 * 3600): number | null {
+    const probe =
+      which === "center"
+        ? (t: number) => this.centerC(t)
+        : which === "mean"
+          ? (t: number) => this.meanC(t)
+          : (t: number) => this.warmestC(t);
+    const g = (t: number) => probe(t) - targetC;
+    if (g(0) <= 0) return 0;
+    if (this.ambientC >= targetC) return null;
+    let tPrev = 0;
+    // Grid from Fo = 0.001 (where a few tens of terms suffice) in steps of 30 %.
+    for (let t = 1e-3 * this.timeScaleS(); tPrev < maxS; t *= 1.3) {
+      const tNow = Math.min(t, maxS);
+      if (g(tNow) <= 0) return findRootBrent(g, tPrev, tNow, 0.5);
+      tPrev = tNow;
+    }
+    return null;
+  }
+}
+
+/** Slab, uniform or non-uniform start. */
+class SlabSolution extends BaseSolution {
+  readonly depthM: number;
+  private readonly foPerS: number;
+
+  constructor(
+    geometry: Extract<Geometry, { shape: "slab" }>,
+    material: Conductor,
+    ambientC: number,
+    tolK: number,
+    readonly series: Series1D,
+    readonly initialC: (xM: number) => number,
+  ) {
+    super(geometry, material, ambientC, tolK);
+    this.depthM = geometry.depthM;
+    this.foPerS = material.alpha / (this.depthM * this.depthM);
+  }
+
+  protected extentM(): number {
+    return this.depthM;
+  }
+
+  protected timeScaleS(): number {
+    return 1 / this.foPerS;
+  }
+
+  protected lineC(tS: number, xM: number): number {
+    return this.ambientC + this.series.value(xM / this.depthM, tS * this.foPerS);
+  }
+
+  temperatureAt(tS: number, at: number | BlockPoint): number {
+    checkTime(tS);
+    if (typeof at !== "number") throw new TypeError("a slab takes a depth in metres");
+    const s = Math.min(1, Math.max(0, at / this.depthM));
+    return this.ambientC + this.series.value(s, tS * this.foPerS);
+  }
+
+  centerC(tS: number): number {
+    checkTime(tS);
+    return this.ambientC + this.series.centre(tS * this.foPerS);
+  }
+
+  meanC(tS: number): number {
+    checkTime(tS);
+    return this.ambientC + this.series.mean(tS * this.foPerS);
+  }
+
+  warmestC(tS: number): number {
+    checkTime(tS);
+    const fo = tS * this.foPerS;
+    return this.ambientC + maximiseOnUnit((s) => this.series.value(s, fo)).v;
+  }
+
+  terms(tS: number): number {
+    checkTime(tS);
+    return tS === 0 ? 0 : this.series.terms(tS * this.foPerS);
+  }
+}
+
+/** Cylinder or sphere, uniform start. */
+class RadialSolution extends BaseSolution {
+  private readonly foPerS: number;
+
+  constructor(
+    geometry: Extract<Geometry, { shape: "cylinder" | "sphere" }>,
+    material: Conductor,
+    ambientC: number,
+    tolK: number,
+    private readonly series: Series1D,
+  ) {
+    super(geometry, material, ambientC, tolK);
+    this.foPerS = material.alpha / (geometry.radiusM * geometry.radiusM);
+  }
+
+  private get radiusM(): number {
+    return (this.geometry as Extract<Geometry, { shape: "cylinder" | "sphere" }>).radiusM;
+  }
+
+  protected extentM(): number {
+    return this.radiusM;
+  }
+
+  protected timeScaleS(): number {
+    return 1 / this.foPerS;
+  }
+
+  protected lineC(tS: number, rM: number): number {
+    return this.ambientC + this.series.value(Math.min(1, Math.max(0, rM / this.radiusM)), tS * this.foPerS);
+  }
+
+  temperatureAt(tS: number, at: number | BlockPoint): number {
+    checkTime(tS);
+    if (typeof at !== "number") throw new TypeError("a cylinder or sphere takes a radius in metres");
+    return this.lineC(tS, at);
+  }
+
+  centerC(tS: number): number {
+    checkTime(tS);
+    return this.ambientC + this.series.centre(tS * this.foPerS);
+  }
+
+  meanC(tS: number): number {
+    checkTime(tS);
+    return this.ambientC + this.series.mean(tS * this.foPerS);
+  }
+
+  warmestC(tS: number): number {
+    checkTime(tS);
+    const fo = tS * this.foPerS;
+    return this.ambientC + maximiseOnUnit((r) => this.series.value(r, fo)).v;
+  }
+
+  terms(tS: number): number {
+    checkTime(tS);
+    return tS === 0 ? 0 : this.series.terms(tS * this.foPerS);
+  }
+}
+
+/** T − T∞ = Σ amplitude · θx(x)·θy(y)·θz(z): one product for a uniform start, one more per move. */
+interface ProductTerm {
+  amplitude: number;
+  factors: [Series1D, Series1D, Series1D];
+}
+
+/** Rectangular block: products of slab solutions (Incropera & DeWitt §5.8). */
+class BlockSolution extends BaseSolution {
+  readonly dims: [number, number, number];
+  readonly foPerS: [number, number, number];
+
+  constructor(
+    geometry: Extract<Geometry, { shape: "block" }>,
+    material: Conductor,
+    ambientC: number,
+    tolK: number,
+    readonly products: ProductTerm[],
+  ) {
+    super(geometry, material, ambientC, tolK);
+    this.dims = [geometry.lengthM, geometry.widthM, geometry.depthM];
+    this.foPerS = [
+      material.alpha / (geometry.lengthM * geometry.lengthM),
+      material.alpha / (geometry.widthM * geometry.widthM),
+      material.alpha / (geometry.depthM * geometry.depthM),
+    ];
+  }
+
+  private at3(tS: number, sx: number, sy: number, sz: number): number {
+    const [fx, fy, fz] = this.foPerS;
+    let sum = 0;
+    for (const p of this.products) {
+      const [x, y, z] = p.factors;
+      sum += p.amplitude * x.value(sx, tS * fx) * y.value(sy, tS * fy) * z.value(sz, tS * fz);
+    }
+    return this.ambientC + sum;
+  }
+
+  protected extentM(): number {
+    return this.dims[2];
+  }
+
+  protected timeScaleS(): number {
+    return 1 / Math.max(...this.foPerS);
+  }
+
+  protected lineC(tS: number, zM: number): number {
+    return this.at3(tS, 0.5, 0.5, Math.min(1, Math.max(0, zM / this.dims[2])));
+  }
+
+  temperatureAt(tS: number, at: number | BlockPoint): number {
+    checkTime(tS);
+    if (typeof at === "number") return this.lineC(tS, at);
+    const [lx, ly, lz] = this.dims;
+    const clamp = (v: number) => Math.min(1, Math.max(0, v));
+    return this.at3(tS, clamp(at.xM / lx), clamp(at.yM / ly), clamp(at.zM / lz));
+  }
+
+  centerC(tS: number): number {
+    checkTime(tS);
+    const [fx, fy, fz] = this.foPerS;
+    let sum = 0;
+    for (const p of this.products) {
+      const [x, y, z] = p.factors;
+      sum += p.amplitude * x.centre(tS * fx) * y.centre(tS * fy) * z.centre(tS * fz);
+    }
+    return this.ambientC + sum;
+  }
+
+  meanC(tS: number): number {
+    checkTime(tS);
+    const [fx, fy, fz] = this.foPerS;
+    let sum = 0;
+    for (const p of this.products) {
+      const [x, y, z] = p.factors;
+      sum += p.amplitude * x.mean(tS * fx) * y.mean(tS * fy) * z.mean(tS * fz);
+    }
+    return this.ambientC + sum;
+  }
+
+  warmestC(tS: number): number {
+    checkTime(tS);
+    const fo = this.foPerS.map((f) => f * tS);
+    if (this.products.length === 1) {
+      // A product is linear in each factor, so its extremes over the box sit at each factor's own
+      // extremes: eight candidates.
+      const p = this.products[0];
+      const ranges = p.factors.map((f, i) => {
+        const hi = maximiseOnUnit((s) => f.value(s, fo[i])).v;
+        const lo = -maximiseOnUnit((s) => -f.value(s, fo[i])).v;
+        return [lo, hi];
+      });
+      let best = -Infinity;
+      for (const a of ranges[0])
+        for (const b of ranges[1]) for (const c of ranges[2]) best = Math.max(best, p.amplitude * a * b * c);
+      return this.ambientC + best;
+    }
+    // Several products: coarse grid, then coordinate-wise golden-section sweeps. Along one axis
+    // the other two factors of each product are constants, so each sweep evaluates one factor.
+    const products = this.products;
+    const grid = 8;
+    const values = products.map((p) =>
+      p.factors.map((f, axis) => Array.from({ length: grid + 1 }, (_, i) => f.value(i / grid, fo[axis]))),
+    );
+    const pt = [0.5, 0.5, 0.5];
+    let best = -Infinity;
+    for (let i = 0; i <= grid; i++)
+      for (let j = 0; j <= grid; j++)
+        for (let k = 0; k <= grid; k++) {
+          let v = 0;
+          for (let p = 0; p < products.length; p++) {
+            v += products[p].amplitude * values[p][0][i] * values[p][1][j] * values[p][2][k];
+          }
+          if (v > best) {
+            best = v;
+            pt[0] = i / grid;
+            pt[1] = j / grid;
+            pt[2] = k / grid;
+          }
+        }
+    for (let sweep = 0; sweep < 3; sweep++) {
+      for (let axis = 0; axis < 3; axis++) {
+        const weight = products.map((p) => {
+          let w = p.amplitude;
+          for (let other = 0; other < 3; other++) {
+            if (other !== axis) w *= p.factors[other].value(pt[other], fo[other]);
+          }
+          return w;
+        });
+        const r = maximiseOnUnit((u) => {
+          let v = 0;
+          for (let p = 0; p < products.length; p++) v += weight[p] * products[p].factors[axis].value(u, fo[axis]);
+          return v;
+        });
+        if (r.v >= best) {
+          best = r.v;
+          pt[axis] = r.s;
+        }
+      }
+    }
+    return this.ambientC + best;
+  }
+
+  terms(tS: number): number {
+    checkTime(tS);
+    if (tS === 0) return 0;
+    let n = 0;
+    for (const p of this.products) p.factors.forEach((f, i) => (n += f.terms(tS * this.foPerS[i])));
+    return n;
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Construction.
+
+function checkMaterial(m: Conductor): void {
+  if (!(m.k > 0) || !(m.alpha > 0) || !Number.isFinite(m.k) || !Number.isFinite(m.alpha)) {
+    throw new RangeError("conductivity and diffusivity must be positive");
+  }
+}
+
+function slabSeries(
+  b0: number,
+  b1: number,
+  start: SlabStart,
+  tol: number,
+  cap: number,
+  preferSeries = false,
+): Series1D {
+  if (start.kind === "uniform" && (start.u === 0 || (b0 === 0 && b1 === 0))) {
+    return new ConstantSeries(start.u);
+  }
+  return new SlabSeries(b0, b1, start, tol, cap, preferSeries);
+}
+
+// Slope du/dξ at a face of a profile given as a function, by a one-sided three-point difference.
+function faceSlope(u: (s: number) => number, atTop: boolean): number {
+  const h = 1e-5;
+  if (atTop) return (3 * u(1) - 4 * u(1 - h) + u(1 - 2 * h)) / (2 * h);
+  return (-3 * u(0) + 4 * u(h) - u(2 * h)) / (2 * h);
+}
+
+// Largest |u''| seen by second differences on 1024 intervals (a kink counts as a steep bend).
+function curvatureOf(u: (s: number) => number): number {
+  const n = 1024;
+  let prev = u(0);
+  let here = u(1 / n);
+  let m = 0;
+  for (let i = 2; i <= n; i++) {
+    const next = u(i / n);
+    m = Math.max(m, Math.abs(next - 2 * here + prev));
+    prev = here;
+    here = next;
+  }
+  return m * n * n;
+}
+
+function profileStart(u: (s: number) => number, segments: number, slopes?: [number, number]): SlabStart {
+  return {
+    kind: "profile",
+    u,
+    slope0: slopes ? slopes[0] : faceSlope(u, false),
+    slope1: slopes ? slopes[1] : faceSlope(u, true),
+    curvature: curvatureOf(u),
+    segments,
+  };
+}
+
+// Start of a continued slab: the old solution's state (plus a constant), its slopes and curvature
+// bound in closed form.
+function modalStart(u: (s: number) => number, modes: ModalState): SlabStart {
+  let slope0 = 0;
+  let slope1 = 0;
+  let curvature = 0;
+  for (let j = 0; j < modes.zeta.length; j++) {
+    const z = modes.zeta[j];
+    slope0 += modes.amp[j] * z * Math.cos(modes.phi[j]);
+    slope1 += modes.amp[j] * z * Math.cos(z + modes.phi[j]);
+    curvature += Math.abs(modes.amp[j]) * z * z;
+  }
+  return { kind: "profile", u, slope0, slope1, curvature, segments: 0, modes };
+}
+
+// The start of a continued slab (or block factor): in closed form from the old series where it has
+// one at the moment of the move, by quadrature of its values otherwise.
+function continuedStart(old: Series1D, fo: number, shift: number): SlabStart {
+  const u = (s: number) => old.value(s, fo) + shift;
+  const state = old.state?.(fo);
+  if (!state) return profileStart(u, 0);
+  if (state.zeta.length === 0) return { kind: "uniform", u: state.constant + shift };
+  return modalStart(u, { ...state, constant: state.constant + shift });
+}
+
+/**
+ * Solution of the heat equation for `geometry` and `material` from `initial` (°C) with every face
+ * exchanging heat with one ambient at ambientC. Roots and coefficients are computed on first use and
+ * kept; each evaluation sums only the terms its time needs.
+ */
+export function solveConduction(
+  geometry: Geometry,
+  material: Conductor,
+  initial: Initial,
+  ambientC: number,
+  opts: ConductionOptions = {},
+): Solution {
+  checkMaterial(material);
+  const tolK = opts.tolK ?? DEFAULT_TOL_K;
+  const cap = opts.maxTerms ?? DEFAULT_MAX_TERMS;
+  const prefer = opts.preferSeries ?? false;
+  if (!(tolK > 0)) throw new RangeError("tolK must be positive");
+  const { k } = material;
+
+  if (geometry.shape === "slab") {
+    checkLength("depthM", geometry.depthM);
+    const L = geometry.depthM;
+    const b0 = toBiot(geometry.bottomH, L, k);
+    const b1 = toBiot(geometry.topH, L, k);
+    let start: SlabStart;
+    let initialC: (xM: number) => number;
+    if (typeof initial === "number") {
+      start = { kind: "uniform", u: initial - ambientC };
+      initialC = () => initial;
+    } else if (typeof initial === "function") {
+      const u = (s: number) => initial(s * L) - ambientC;
+      start = profileStart(u, 0);
+      initialC = initial;
+    } else {
+      const samples = Float64Array.from(initial.samplesC);
+      const seg = samples.length - 1;
+      if (seg < 1) throw new RangeError("samplesC needs at least two samples");
+      const u = (s: number) => {
+        const x = Math.min(seg, Math.max(0, s * seg));
+        const j = Math.min(seg - 1, Math.floor(x));
+        return samples[j] + (x - j) * (samples[j + 1] - samples[j]) - ambientC;
+      };
+      start = profileStart(u, seg, [(samples[1] - samples[0]) * seg, (samples[seg] - samples[seg - 1]) * seg]);
+      initialC = (xM: number) => u(xM / L) + ambientC;
+    }
+    return new SlabSolution(geometry, material, ambientC, tolK, slabSeries(b0, b1, start, tolK, cap, prefer), initialC);
+  }
+
+  if (typeof initial !== "number") {
+    throw new RangeError("a non-uniform initial temperature is supported for slabs only");
+  }
+  const u = initial - ambientC;
+
+  if (geometry.shape === "cylinder" || geometry.shape === "sphere") {
+    checkLength("radiusM", geometry.radiusM);
+    const bi = toBiot(geometry.h, geometry.radiusM, k);
+    const series =
+      bi === 0 || u === 0 ? new ConstantSeries(u) : new RadialSeries(geometry.shape === "sphere", bi, u, tolK, cap);
+    return new RadialSolution(geometry, material, ambientC, tolK, series);
+  }
+
+  checkLength("lengthM", geometry.lengthM);
+  checkLength("widthM", geometry.widthM);
+  checkLength("depthM", geometry.depthM);
+  // Each factor is θ in [0, 1]; three factors share the error budget.
+  const tol = u === 0 ? 1 : tolK / (3 * Math.abs(u));
+  const bx = toBiot(geometry.wallH, geometry.lengthM, k);
+  const by = toBiot(geometry.wallH, geometry.widthM, k);
+  const bz0 = toBiot(geometry.bottomH, geometry.depthM, k);
+  const bz1 = toBiot(geometry.topH, geometry.depthM, k);
+  const one: SlabStart = { kind: "uniform", u: 1 };
+  const factors: [Series1D, Series1D, Series1D] = [
+    slabSeries(bx, bx, one, tol, cap, prefer),
+    slabSeries(by, by, one, tol, cap, prefer),
+    slabSeries(bz0, bz1, one, tol, cap, prefer),
+  ];
+  return new BlockSolution(geometry, material, ambientC, tolK, [{ amplitude: u, factors }]);
+}
+
+/**
+ * The body's state at tSwitchS (s) in `solution` becomes the start of a new solution with new surface
+ * coefficients (same shape and size) and, optionally, a new ambient: a batch moved from a walk-in to
+ * an ice bath. Time in the new solution counts from the move. Slabs and blocks only.
+ * A block stays exact: its state is a sum of products of slab profiles, and each slab profile evolves
+ * on its own; a new ambient adds one uniform product.
+ */
+export function continueFrom(
+  solution: Solution,
+  tSwitchS: number,
+  geometry: Geometry,
+  ambientC: number = solution.ambientC,
+  opts: ConductionOptions = {},
+): Solution {
+  checkTime(tSwitchS);
+  const tolK = opts.tolK ?? solution.tolK;
+  const cap = opts.maxTerms ?? DEFAULT_MAX_TERMS;
+  const material = solution.material;
+  const k = material.k;
+
+  if (solution instanceof SlabSolution && geometry.shape === "slab") {
+    if (Math.abs(geometry.depthM - solution.depthM) > 1e-12 * solution.depthM) {
+      throw new RangeError("continueFrom keeps the body's size");
+    }
+    const L = geometry.depthM;
+    const shift = solution.ambientC - ambientC;
+    const fo = (tSwitchS * material.alpha) / (L * L);
+    const old = solution.series;
+    const u = (s: number) => old.value(s, fo) + shift;
+    const start = continuedStart(old, fo, shift);
+    const series = slabSeries(
+      toBiot(geometry.bottomH, L, k),
+      toBiot(geometry.topH, L, k),
+      start,
+      tolK,
+      cap,
+      opts.preferSeries,
+    );
+    return new SlabSolution(geometry, material, ambientC, tolK, series, (xM) => u(xM / L) + ambientC);
+  }
+
+  if (solution instanceof BlockSolution && geometry.shape === "block") {
+    const dims = [geometry.lengthM, geometry.widthM, geometry.depthM];
+    if (dims.some((d, i) => Math.abs(d - solution.dims[i]) > 1e-12 * d)) {
+      throw new RangeError("continueFrom keeps the body's size");
+    }
+    const shift = solution.ambientC - ambientC;
+    const total = solution.products.reduce((s, p) => s + Math.abs(p.amplitude), 0) + Math.abs(shift);
+    const tol = total === 0 ? 1 : tolK / (3 * total);
+    const biots: [number, number][] = [
+      [toBiot(geometry.wallH, dims[0], k), toBiot(geometry.wallH, dims[0], k)],
+      [toBiot(geometry.wallH, dims[1], k), toBiot(geometry.wallH, dims[1], k)],
+      [toBiot(geometry.bottomH, dims[2], k), toBiot(geometry.topH, dims[2], k)],
+    ];
+    const products: ProductTerm[] = solution.products.map((p) => ({
+      amplitude: p.amplitude,
+      factors: p.factors.map((f, i) => {
+        const fo = tSwitchS * solution.foPerS[i];
+        const start = continuedStart(f, fo, 0);
+        return slabSeries(biots[i][0], biots[i][1], start, tol, cap, opts.preferSeries);
+      }) as [Series1D, Series1D, Series1D],
+    }));
+    if (shift !== 0) {
+      const one: SlabStart = { kind: "uniform", u: 1 };
+      products.push({
+        amplitude: shift,
+        factors: biots.map(([a, b]) => slabSeries(a, b, one, tol, cap, opts.preferSeries)) as [
+          Series1D,
+          Series1D,
+          Series1D,
+        ],
+      });
+    }
+    return new BlockSolution(geometry, material, ambientC, tolK, products);
+  }
+
+  throw new RangeError("continueFrom needs a slab or block solution and the same shape");
+}
