@@ -66,7 +66,7 @@ export default function SiteApiTokens({ loaderData, actionData }: Route.Componen
             {tokens.map((tk) => (
               <li key={tk.id} className="flex flex-wrap items-center justify-between gap-3 rounded-xl bg-frost px-4 py-2">
                 <span>
-                  <span className="font-bold">{tk.name}</span> · <code>cw_{tk.prefix}_…</code> ·{" "}
+                  <span className="font-bold">{tk.name}</span> · <code>{`cw_${tk.prefix}_…`}</code> ·{" "}
                   {tk.lastUsedAt ? t("station.lastSeen", { when: new Date(tk.lastUsedAt).toLocaleString(i18n.language) }) : t("station.never")}
                 </span>
                 <Form method="post">

@@ -423,6 +423,28 @@ describe("rectangular block", () => {
     }
   });
 
+  it("after a move, the early-time shortcuts agree with the full series everywhere", () => {
+    const b = block(8, 8, 10);
+    const bath = { shape: "block" as const, ...dims, wallH: 400, bottomH: 400, topH: 10 };
+    for (const tSwitch of [120, 2700]) {
+      const quick = continueFrom(b, tSwitch, bath, 0);
+      const full = continueFrom(b, tSwitch, bath, 0, { preferSeries: true });
+      for (const t of [1, 5, 30, 120, 600, 3600]) {
+        expect(Math.abs(quick.centerC(t) - full.centerC(t))).toBeLessThan(0.01);
+        expect(Math.abs(quick.meanC(t) - full.meanC(t))).toBeLessThan(0.01);
+        for (const [fx, fy, fz] of [
+          [0.5, 0.5, 0.1],
+          [0.02, 0.5, 0.5],
+          [0.2, 0.1, 0.9],
+          [0.5, 0.03, 0.02],
+        ]) {
+          const p = { xM: fx * dims.lengthM, yM: fy * dims.widthM, zM: fz * dims.depthM };
+          expect(Math.abs(quick.temperatureAt(t, p) - full.temperatureAt(t, p))).toBeLessThan(0.01);
+        }
+      }
+    }
+  });
+
   it("finds the warmest point of a pan with a hot base at the middle of the base", () => {
     const b = block(9, 0, 15);
     for (const t of [600, 3600]) {

@@ -254,7 +254,7 @@ function maximiseOnUnit(f: (s: number) => number, samples = 16): { s: number; v:
   let d = a + INV_PHI * (b - a);
   let fc = f(c);
   let fd = f(d);
-  while (b - a > 1e-6) {
+  while (b - a > 1e-5) {
     if (fc > fd) {
       b = d;
       d = c;
