@@ -1,5 +1,6 @@
 // npm run bench: the cost of the hot paths. Figures, not pass/fail.
 import { hash, verify } from "@node-rs/argon2";
+import { benchEngine } from "./engine";
 
 const percentile = (xs: number[], p: number) => [...xs].sort((a, b) => a - b)[Math.min(xs.length - 1, Math.floor((p / 100) * xs.length))];
 async function time(label: string, n: number, fn: () => Promise<unknown>) {
@@ -12,6 +13,9 @@ async function time(label: string, n: number, fn: () => Promise<unknown>) {
   console.log(`${label.padEnd(44)} p50 ${percentile(samples, 50).toFixed(1)} ms   p95 ${percentile(samples, 95).toFixed(1)} ms   (n=${n})`);
 }
 
+console.log("Engine");
+benchEngine();
+console.log("\nSign-in and pages");
 const stored = await hash("a-long-test-password");
 await time("argon2id hash (set password or PIN)", 20, () => hash("a-long-test-password"));
 await time("argon2id verify (sign-in, PIN entry)", 20, () => verify(stored, "a-long-test-password"));

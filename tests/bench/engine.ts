@@ -1,0 +1,79 @@
+// The engine's figures for `npm run bench`: series evaluation, a full batch prediction, and the
+// independent numerical solver at equal accuracy.
+import { buildBatchModel, standardAlternatives, type BatchSetup } from "../../app/lib/engine/batch-model";
+import { solveScaled } from "../../app/lib/engine/calibrate";
+import { solveConduction } from "../../app/lib/engine/conduction";
+import { predictBatch } from "../../app/lib/engine/predict";
+import { interpolateCells, solveSlabNumerically } from "../helpers/numerical-heat";
+
+const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
+const line = (label: string, value: string) => console.log(`${label.padEnd(58)} ${value}`);
+
+export function benchEngine() {
+  // 1. Series evaluation per point: a 50 mm slab cooled on both faces (h = 10 W/m²K).
+  const slab = solveConduction({ shape: "slab", depthM: 0.05, bottomH: 10, topH: 10 }, { k: 0.5, alpha: 1.32e-7 }, 60, 3);
+  let sink = 0;
+  for (const t of [60, 600, 7200]) {
+    const n = 200_000;
+    const t0 = performance.now();
+    for (let i = 0; i < n; i++) sink += slab.centerC(t + (i & 7));
+    line(`series, one point, slab at t = ${t} s (${slab.terms(t)} terms)`, `${(((performance.now() - t0) / n) * 1e3).toFixed(3)} µs`);
+  }
+
+  // 2. A full batch prediction: fit to 8 readings, both FDA stages with bands, and the what-ifs.
+  const setup: BatchSetup = {
+    food: { k: 0.52, alpha: 1.35e-7, rhoCp: 0.52 / 1.35e-7 },
+    pan: { size: "gn-1/1", depthMm: 100 },
+    fillDepthMm: 75,
+    panMaterial: "stainless-steel",
+    lid: true,
+    method: "walk-in",
+    startC: 68,
+  };
+  const { model, prior } = buildBatchModel(setup);
+  const truth = solveScaled(model, 1.4, 0.95);
+  const readings = Array.from({ length: 8 }, (_, i) => ({ tS: (i + 1) * 900, c: truth.centerC((i + 1) * 900) + Math.sin(i * 7.1) * 0.4 }));
+  const alternatives = standardAlternatives(setup);
+  const stages = [
+    { targetC: 21, deadlineS: 7200 },
+    { targetC: 5, deadlineS: 21600 },
+  ];
+  const runs: number[] = [];
+  const alone: number[] = [];
+  for (let i = 0; i < 40; i++) {
+    let t0 = performance.now();
+    const p = predictBatch({ model, readings, nowS: 7200, stages, prior, alternatives });
+    runs.push(performance.now() - t0);
+    sink += p.stages[0].reachS ?? 0;
+    t0 = performance.now();
+    predictBatch({ model, readings, nowS: 7200, stages, prior });
+    alone.push(performance.now() - t0);
+  }
+  line(`batch prediction: fit to 8 readings, 2 stages with bands`, `${median(alone).toFixed(2)} ms median`);
+  line(`  … plus ${alternatives.length} what-ifs`, `${median(runs).toFixed(2)} ms median (target < 2 ms)`);
+
+  // 3. Series against the independent Crank–Nicolson solver at equal accuracy (0.01 K at the centre, 2 h).
+  const exact = slab.centerC(7200);
+  const seriesRuns: number[] = [];
+  for (let i = 0; i < 2000; i++) {
+    const t0 = performance.now();
+    const s = solveConduction({ shape: "slab", depthM: 0.05, bottomH: 10, topH: 10 + i * 1e-9 }, { k: 0.5, alpha: 1.32e-7 }, 60, 3);
+    sink += s.centerC(7200);
+    seriesRuns.push(performance.now() - t0);
+  }
+  let cells = 10;
+  let numericMs = 0;
+  let error = Infinity;
+  for (; cells <= 640; cells *= 2) {
+    const t0 = performance.now();
+    const { sys, temperatures } = solveSlabNumerically({ depthM: 0.05, bottomH: 10, topH: 10, k: 0.5, alpha: 1.32e-7, ambientC: 3, initialC: () => 60, timesS: [7200], cells });
+    numericMs = performance.now() - t0;
+    error = Math.abs(interpolateCells(sys.centresM, temperatures[0], 0.025) - exact);
+    if (error < 0.01) break;
+  }
+  const seriesMs = median(seriesRuns);
+  line(`series: build + centre at 2 h (from scratch)`, `${(seriesMs * 1e3).toFixed(1)} µs median`);
+  line(`Crank–Nicolson, ${cells} cells, same point to ${error.toFixed(4)} K`, `${numericMs.toFixed(2)} ms`);
+  line(`ratio numerical / series`, `${(numericMs / seriesMs).toFixed(0)}× (target ≥ 100×)`);
+  return sink;
+}
