@@ -328,7 +328,6 @@ abstract class ModalSeries implements Series1D {
   private decayN = 0;
   private termsFo = NaN;
   private termsN = 0;
-  private lastSeriesN = 0;
   /** Up to this Fo the early-time form is exact to within tol/10 (0: only when the cap forces it). */
   protected earlyUpToFo = 0;
 
@@ -357,16 +356,13 @@ abstract class ModalSeries implements Series1D {
     return this.ampTail(n) * gaussTail(n, fo) < this.tol / 10;
   }
 
-  /** Terms needed at fo, or 0 when more than the cap would be: the early-time form applies. */
+  /** Terms an evaluation at fo sums; 0 where the early-time form is used (past the cap, or where it is as exact and cheaper). */
   terms(fo: number): number {
     if (fo === this.termsFo) return this.termsN;
     let n: number;
     // Where both forms are good, a long series loses to two erfc evaluations.
     if (fo <= this.earlyUpToFo && !this.tailOk(SERIES_PREFERRED_TERMS, fo)) n = 0;
-    else {
-      n = this.countTerms(fo);
-      if (n > 0) this.lastSeriesN = n;
-    }
+    else n = this.countTerms(fo);
     this.termsFo = fo;
     this.termsN = n;
     return n;
@@ -374,31 +370,18 @@ abstract class ModalSeries implements Series1D {
 
   /** Terms the series alone needs at fo (0 past the cap), whichever form evaluations use. */
   protected countTerms(fo: number): number {
-    if (this.tailOk(1, fo)) return 1;
-    // Times close together (a search, a chart) mostly need the same count as the last one.
-    const last = this.lastSeriesN;
-    if (last > 1 && this.tailOk(last, fo) && !this.tailOk(last - 1, fo)) return last;
+    // Closed form, no search: with K = 1/(1 − e^(−3π²Fo)) bounding the geometric factor for every N,
+    // N = ⌈√(ln(A·K/lim)/(π²Fo))⌉ is enough; a second pass with the amplitude bound at that N trims
+    // it, kept only if the exact test still passes.
     const lim = this.tol / 10;
-    const scale = PI2 * fo;
-    // With exp(−N²π²Fo)·A(1) ≤ lim the tail is usually small enough already.
-    let hi = Math.max(2, Math.ceil(Math.sqrt(Math.log(this.ampTail(1) / lim) / scale)));
-    if (hi > this.cap) hi = this.cap;
-    while (hi < this.cap && !this.tailOk(hi, fo)) hi = Math.min(this.cap, Math.ceil(1.25 * hi) + 1);
-    if (!this.tailOk(hi, fo)) return 0;
-    // Below √(ln(A(hi)/lim)/(π²Fo)) even the first neglected term is too big.
-    let lo = Math.max(1, Math.floor(Math.sqrt(Math.max(0, Math.log(this.ampTail(hi) / lim)) / scale)));
-    if (lo >= hi) lo = hi - 1;
-    if (this.tailOk(lo, fo)) return lo === 1 ? 1 : this.countDown(lo, fo);
-    while (hi - lo > 1) {
-      const mid = (lo + hi) >> 1;
-      if (this.tailOk(mid, fo)) hi = mid;
-      else lo = mid;
-    }
-    return hi;
-  }
-
-  private countDown(n: number, fo: number): number {
-    while (n > 1 && this.tailOk(n - 1, fo)) n--;
+    const c = PI2 * fo;
+    const k = 1 / -Math.expm1(-3 * c);
+    const a1 = this.ampTail(1);
+    if (a1 * k * Math.exp(-c) < lim) return 1;
+    let n = Math.max(2, Math.ceil(Math.sqrt(Math.log((a1 * k) / lim) / c)));
+    if (n > this.cap) return this.tailOk(this.cap, fo) ? this.cap : 0;
+    const trimmed = Math.max(1, Math.ceil(Math.sqrt(Math.max(0, Math.log((this.ampTail(n) * k) / lim)) / c)));
+    if (trimmed < n && this.tailOk(trimmed, fo)) n = trimmed;
     return n;
   }
 
@@ -463,7 +446,7 @@ abstract class ModalSeries implements Series1D {
 function cosPhase(zeta: number, bi: number): number {
   if (bi === 0) return 0;
   if (bi === Infinity) return 1;
-  return bi / Math.hypot(zeta, bi);
+  return bi / Math.sqrt(zeta * zeta + bi * bi);
 }
 
 function sin2Phase(zeta: number, bi: number): number {
@@ -539,7 +522,9 @@ class SlabSeries extends ModalSeries {
   private l1 = 0;
   private startMean = 0;
   private pointwise = false;
+  private ends: { x0: Float64Array; dx0: Float64Array; x1: Float64Array; dx1: Float64Array } | null = null;
   private bends: Float64Array[] | null = null; // range-maximum table of |u''| on a grid
+  private bendGrid = 512;
 
   constructor(
     private readonly b0: number,
@@ -599,9 +584,12 @@ class SlabSeries extends ModalSeries {
   }
 
   private bendWithin(a: number, b: number): number {
-    const grid = 512;
     if (!this.bends) {
       const st = this.start;
+      const top = st.kind === "profile" && st.modes ? Math.max(0, ...st.modes.zeta) : Infinity;
+      // One grid step per radian of the fastest mode (512 steps for a start without modes).
+      const grid = top === Infinity ? 512 : Math.min(512, Math.max(32, 2 ** Math.ceil(Math.log2(Math.max(1, top)))));
+      this.bendGrid = grid;
       const base = new Float64Array(grid + 1);
       if (st.kind === "profile" && st.modes) {
         // u'' = −Σ ζ²·a·sin(ζξ + φ) on the grid, each mode by the recurrence
@@ -640,11 +628,36 @@ class SlabSeries extends ModalSeries {
       this.bends = levels;
     }
     // One grid cell of margin on each side: a bend between grid points is seen by its neighbours.
+    const grid = this.bendGrid;
     const lo = Math.max(0, Math.floor(a * grid) - 1);
     const hi = Math.min(grid, Math.ceil(b * grid) + 1);
     const k = Math.floor(Math.log2(hi - lo + 1));
     const t = this.bends[k];
     return Math.max(t[lo], t[hi - (1 << k) + 1]);
+  }
+
+  // amp·X and amp·X' of each mode of the start at ξ = 0 and ξ = 1.
+  private modeEnds(m: ModalState) {
+    if (!this.ends) {
+      const n = m.zeta.length;
+      const e = {
+        x0: new Float64Array(n),
+        dx0: new Float64Array(n),
+        x1: new Float64Array(n),
+        dx1: new Float64Array(n),
+      };
+      for (let j = 0; j < n; j++) {
+        const z = m.zeta[j];
+        const p = m.phi[j];
+        const a = m.amp[j];
+        e.x0[j] = a * Math.sin(p);
+        e.dx0[j] = a * z * Math.cos(p);
+        e.x1[j] = a * Math.sin(z + p);
+        e.dx1[j] = a * z * Math.cos(z + p);
+      }
+      this.ends = e;
+    }
+    return this.ends;
   }
 
   protected ampTail(n: number): number {
@@ -690,12 +703,23 @@ class SlabSeries extends ModalSeries {
     let a: number;
     if (st.kind === "uniform") a = (st.u * meanX) / norm;
     else if (st.modes) {
+      // For X'' = −ζj²X and Y'' = −ζ²Y: (ζj² − ζ²)∫₀¹XY = [XY' − X'Y]₀¹ (Green's identity), from the
+      // modes' end values alone; the direct integral where ζj and ζ nearly coincide.
       const m = st.modes;
+      const e = this.modeEnds(m);
+      const y0 = Math.sin(phi0);
+      const dy0 = z * Math.cos(phi0);
+      const y1 = Math.sin(z + phi0);
+      const dy1 = z * Math.cos(z + phi0);
       let sum = m.constant * meanX;
       for (let j = 0; j < m.zeta.length; j++) {
         const zj = m.zeta[j];
-        const pj = m.phi[j];
-        sum += 0.5 * m.amp[j] * (cosIntegral(zj - z, pj - phi0) - cosIntegral(zj + z, pj + phi0));
+        if (Math.abs(zj - z) < 0.05) {
+          const pj = m.phi[j];
+          sum += 0.5 * m.amp[j] * (cosIntegral(zj - z, pj - phi0) - cosIntegral(zj + z, pj + phi0));
+        } else {
+          sum += (e.x1[j] * dy1 - e.dx1[j] * y1 - e.x0[j] * dy0 + e.dx0[j] * y0) / (zj * zj - z * z);
+        }
       }
       a = sum / norm;
     } else {

@@ -1,0 +1,77 @@
+import type { RuleSet } from "../rule-sets";
+import { toCelsius } from "../temperature";
+import { buildBatchModel, standardAlternatives, type BatchSetup } from "./batch-model";
+import type { TimedReading } from "./calibrate";
+import { estimateCrossing, predictBatch, type BatchPrediction } from "./predict";
+import { evaluateRuleSet, type RuleEvaluation, type RuleReading } from "./rules";
+
+export type AssessInput = {
+  ruleSet: RuleSet;
+  /** The physics of the batch; `startC` is its temperature when it started cooling. */
+  setup: BatchSetup;
+  batchStartedAt: number;
+  /** Readings as entered (their own unit), corrections already applied by the caller. */
+  readings: RuleReading[];
+  siteUnit: "F" | "C";
+  now: number;
+};
+
+export type Assessment = {
+  /** The record: what the readings say under the rule. */
+  evaluation: RuleEvaluation;
+  /** Guidance beside it: the model's view, calibrated on the same readings. */
+  prediction: BatchPrediction;
+  /** When the start was not captured: the model's estimate of the crossing, epoch ms, with its sd in seconds. */
+  crossingEstimate: { at: number; sdS: number } | null;
+  alternativeLabels: Record<string, string>;
+};
+
+/**
+ * The app's one call for a batch: evaluate the rule on the readings (with the model's estimate of the
+ * clock start when the first reading came late), then predict each open stage against its deadline
+ * and rank what would help. After a counted reheat the model restarts from the reheat reading.
+ */
+export function assessBatch(input: AssessInput): Assessment {
+  const { ruleSet, setup, batchStartedAt, now } = input;
+  const sorted = [...input.readings].sort((a, b) => a.takenAt - b.takenAt);
+  const cooling = sorted.filter((r) => r.kind !== "reheat");
+  const { model, prior } = buildBatchModel(setup);
+  const timed = (from: number, list: RuleReading[]): TimedReading[] => list.map((r) => ({ tS: (r.takenAt - from) / 1000, c: toCelsius(r.value, r.unit) }));
+
+  let crossingEstimate: Assessment["crossingEstimate"] = null;
+  const upperC = ruleSet.clockStartsAt === "upper-limit" ? ruleSet.stages[0].from.c : null;
+  if (upperC !== null && cooling.length > 0 && toCelsius(cooling[0].value, cooling[0].unit) < upperC) {
+    const est = estimateCrossing(model, timed(batchStartedAt, cooling), upperC, prior);
+    if (est) crossingEstimate = { at: batchStartedAt + est.crossedAtS * 1000, sdS: est.sdS };
+  }
+  const evaluation = evaluateRuleSet(ruleSet, {
+    readings: sorted,
+    batchStartedAt,
+    siteUnit: input.siteUnit,
+    clockStartEstimate: crossingEstimate ? Math.min(crossingEstimate.at, cooling[0].takenAt) : undefined,
+    now,
+  });
+
+  // After a counted reheat the food starts afresh, uniform at the reheat temperature.
+  const attempt = evaluation.attempts[evaluation.attempts.length - 1];
+  const reheat = attempt.reheatReadingId ? sorted.find((r) => r.id === attempt.reheatReadingId) : undefined;
+  const origin = reheat ? reheat.takenAt : batchStartedAt;
+  const physics = reheat ? buildBatchModel({ ...setup, startC: toCelsius(reheat.value, reheat.unit) }) : { model, prior };
+  const since = cooling.filter((r) => r.takenAt > origin || (!reheat && r.takenAt >= origin));
+  const byId = new Map(sorted.map((r) => [r.id, r]));
+  const stages = evaluation.stages.map((s) => ({
+    targetC: toCelsius(s.limit.value, s.limit.unit),
+    deadlineS: s.deadline === null ? null : (s.deadline - origin) / 1000,
+    metAtS: s.metBy ? (byId.get(s.metBy)!.takenAt - origin) / 1000 : null,
+  }));
+  const alternatives = standardAlternatives(setup);
+  const prediction = predictBatch({
+    model: physics.model,
+    readings: timed(origin, since),
+    nowS: (now - origin) / 1000,
+    stages,
+    prior: physics.prior,
+    alternatives,
+  });
+  return { evaluation, prediction, crossingEstimate, alternativeLabels: Object.fromEntries(alternatives.map((a) => [a.id, a.label])) };
+}
