@@ -2,7 +2,7 @@ import type { RuleSet } from "../rule-sets";
 import { toCelsius } from "../temperature";
 import { buildBatchModel, standardAlternatives, type BatchSetup } from "./batch-model";
 import type { TimedReading } from "./calibrate";
-import { estimateCrossing, predictBatch, type BatchPrediction } from "./predict";
+import { estimateCrossing, predictBatch, type BatchPrediction, type StagePrediction, type StageTarget } from "./predict";
 import { evaluateRuleSet, type RuleEvaluation, type RuleReading } from "./rules";
 
 export type AssessInput = {
@@ -23,6 +23,8 @@ export type Assessment = {
   prediction: BatchPrediction;
   /** When the start was not captured: the model's estimate of the crossing, epoch ms, with its sd in seconds. */
   crossingEstimate: { at: number; sdS: number } | null;
+  /** True when some deadline the prediction used is not yet fixed by the readings (the clock has not started, or stage 1 is open). */
+  provisionalDeadlines: boolean;
   alternativeLabels: Record<string, string>;
 };
 
@@ -59,11 +61,19 @@ export function assessBatch(input: AssessInput): Assessment {
   const physics = reheat ? buildBatchModel({ ...setup, startC: toCelsius(reheat.value, reheat.unit) }) : { model, prior };
   const since = cooling.filter((r) => r.takenAt > origin || (!reheat && r.takenAt >= origin));
   const byId = new Map(sorted.map((r) => [r.id, r]));
-  const stages = evaluation.stages.map((s) => ({
-    targetC: toCelsius(s.limit.value, s.limit.unit),
-    deadlineS: s.deadline === null ? null : (s.deadline - origin) / 1000,
-    metAtS: s.metBy ? (byId.get(s.metBy)!.takenAt - origin) / 1000 : null,
-  }));
+  // A clock that has not started yet (no reading below the upper limit so far) would start, at the
+  // earliest, at the last reading at or above it: that gives provisional deadlines to predict against.
+  const ruleStages = ruleSet.stages;
+  const lastAbove = [...since].reverse().find((r) => upperC !== null && toCelsius(r.value, r.unit) >= upperC);
+  const provisionalStart = attempt.clockStart?.at ?? lastAbove?.takenAt ?? origin;
+  const stages: StageTarget[] = [];
+  evaluation.stages.forEach((s, i) => {
+    const metAtS = s.metBy ? (byId.get(s.metBy)!.takenAt - origin) / 1000 : null;
+    let deadlineS = s.deadline === null ? null : (s.deadline - origin) / 1000;
+    if (deadlineS === null && ruleStages[i].clockFrom === "start") deadlineS = (provisionalStart - origin) / 1000 + ruleStages[i].withinMinutes * 60;
+    stages.push({ targetC: toCelsius(s.limit.value, s.limit.unit), deadlineS, metAtS });
+  });
+  const provisional = evaluation.stages.some((s) => s.deadline === null);
   const alternatives = standardAlternatives(setup);
   const prediction = predictBatch({
     model: physics.model,
@@ -73,5 +83,16 @@ export function assessBatch(input: AssessInput): Assessment {
     prior: physics.prior,
     alternatives,
   });
-  return { evaluation, prediction, crossingEstimate, alternativeLabels: Object.fromEntries(alternatives.map((a) => [a.id, a.label])) };
+  // A stage timed from the end of the one before: its deadline follows the predicted end of that one.
+  let previous: StagePrediction | null = null;
+  let again = false;
+  for (let i = 0; i < ruleStages.length; i++) {
+    if (stages[i].deadlineS === null && ruleStages[i].clockFrom === "previous-stage" && previous?.reachS != null) {
+      stages[i] = { ...stages[i], deadlineS: previous.reachS + ruleStages[i].withinMinutes * 60 };
+      again = true;
+    }
+    previous = prediction.stages[i];
+  }
+  const final = again ? predictBatch({ model: physics.model, readings: timed(origin, since), nowS: (now - origin) / 1000, stages, prior: physics.prior, alternatives }) : prediction;
+  return { evaluation, prediction: final, provisionalDeadlines: provisional, crossingEstimate, alternativeLabels: Object.fromEntries(alternatives.map((a) => [a.id, a.label])) };
 }

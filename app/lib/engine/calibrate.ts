@@ -1,4 +1,4 @@
-import { levenbergMarquardt } from "ml-levenberg-marquardt";
+import { fitLeastSquares, invertSmall } from "./least-squares";
 import { solveConduction, type Geometry, type Solution, type SurfaceH } from "./conduction";
 
 /**
@@ -68,7 +68,7 @@ export type Calibration = {
 /**
  * Fits ln s (and ln f when the readings carry the information) to the batch's readings by
  * Levenberg–Marquardt least squares with the priors as extra residuals (a maximum a posteriori
- * fit); the covariance is the inverse of the Gauss–Newton Hessian at the optimum.
+ * fit); the covariance is the inverse of JᵀJ of the standardised residuals at the optimum.
  */
 export function calibrate(model: BatchModel, readings: TimedReading[], prior: Prior = defaultPrior()): Calibration {
   const usable = readings.filter((r) => r.tS > 0 && Number.isFinite(r.c));
@@ -93,9 +93,6 @@ export function calibrate(model: BatchModel, readings: TimedReading[], prior: Pr
   const drop = model.initialC - Math.min(...usable.map((r) => r.c));
   const fitF = usable.length >= 3 && span > 0 && drop / span > 0.3;
 
-  const n = usable.length;
-  const xs = Array.from({ length: n + (fitF ? 2 : 1) }, (_, i) => i);
-  const ys = [...usable.map((r) => r.c), prior.lnS.mean, ...(fitF ? [prior.lnF.mean] : [])];
   const cache = new Map<string, Solution>();
   const solutionFor = (lnS: number, lnF: number) => {
     const key = `${lnS}|${lnF}`;
@@ -106,47 +103,46 @@ export function calibrate(model: BatchModel, readings: TimedReading[], prior: Pr
     }
     return sol;
   };
-  const model_ = (p: ArrayLike<number>) => {
+  // Standardised residuals: the readings over their sd, then the priors over theirs (a maximum a
+  // posteriori fit is least squares with the priors as extra residuals).
+  const residualsFor = (sd: number) => (p: readonly number[]) => {
     const lnS = p[0];
     const lnF = fitF ? p[1] : prior.lnF.mean;
     const sol = solutionFor(lnS, lnF);
-    return (i: number) => (i < n ? sol.centerC(usable[i].tS) : i === n ? lnS : lnF);
+    const r = usable.map((x) => (x.c - sol.centerC(x.tS)) / sd);
+    r.push((lnS - prior.lnS.mean) / prior.lnS.sd);
+    if (fitF) r.push((lnF - prior.lnF.mean) / prior.lnF.sd);
+    return r;
   };
-
-  // Residuals are standardised here (data and model divided by each point's sd) rather than through
-  // the library's `weights` option, whose scaling stalled the steps in our checks.
-  const fitOnce = (sd: number) => {
-    const scale = [...usable.map(() => sd), prior.lnS.sd, ...(fitF ? [prior.lnF.sd] : [])];
-    return levenbergMarquardt({ x: xs, y: ys.map((y, i) => y / scale[i]) }, (p) => {
-      const f = model_(p);
-      return (i: number) => f(i) / scale[i];
-    }, {
-      initialValues: fitF ? [prior.lnS.mean, prior.lnF.mean] : [prior.lnS.mean],
-      minValues: fitF ? [-4, -1] : [-4],
-      maxValues: fitF ? [4, 1] : [4],
-      damping: 1e-2,
-      gradientDifference: 1e-3,
-      centralDifference: true,
-      maxIterations: 40,
-      errorTolerance: 1e-9,
-      improvementThreshold: 1e-4,
+  const fitOnce = (sd: number, from: number[]) =>
+    fitLeastSquares(residualsFor(sd), from, {
+      lo: fitF ? [-4, -1] : [-4],
+      hi: fitF ? [4, 1] : [4],
+      step: fitF ? [1e-3, 1e-3] : [1e-3],
+      tol: 1e-4,
     });
-  };
 
-  let fit = fitOnce(PROBE_SD_K);
-  const residuals = (p: ArrayLike<number>) => {
-    const f = model_(p);
-    return usable.map((r, i) => r.c - f(i));
-  };
-  const dof = Math.max(1, n - (fitF ? 2 : 1));
-  const rms = Math.sqrt(residuals(fit.parameterValues).reduce((a, r) => a + r * r, 0) / dof);
-  const sd = Math.max(PROBE_SD_K, n > (fitF ? 2 : 1) ? rms : 0);
-  if (sd > PROBE_SD_K * 1.5) fit = fitOnce(sd);
+  const n = usable.length;
+  let fit = fitOnce(PROBE_SD_K, fitF ? [prior.lnS.mean, prior.lnF.mean] : [prior.lnS.mean]);
+  // The batch's own scatter takes over when it is clearly larger than the probe's.
+  const params = fitF ? 2 : 1;
+  const readingCost = residualsFor(1)(fit.p).slice(0, n).reduce((a, v) => a + v * v, 0);
+  const rms = n > params ? Math.sqrt(readingCost / (n - params)) : 0;
+  const sd = Math.max(PROBE_SD_K, rms);
+  if (sd > PROBE_SD_K * 1.5) fit = fitOnce(sd, fit.p);
 
-  const p = fit.parameterValues;
-  const lnS = p[0];
-  const lnF = fitF ? p[1] : prior.lnF.mean;
-  const cov = posteriorCovariance(usable, lnS, lnF, fitF, sd, prior, solutionFor);
+  const lnS = fit.p[0];
+  const lnF = fitF ? fit.p[1] : prior.lnF.mean;
+  const inv = invertSmall(fit.jtj);
+  const cov: [[number, number], [number, number]] = fitF
+    ? [
+        [inv[0][0], inv[0][1]],
+        [inv[1][0], inv[1][1]],
+      ]
+    : [
+        [inv[0][0], 0],
+        [0, prior.lnF.sd ** 2],
+      ];
   return {
     s: Math.exp(lnS),
     f: Math.exp(lnF),
@@ -156,39 +152,4 @@ export function calibrate(model: BatchModel, readings: TimedReading[], prior: Pr
     readingsUsed: n,
     solution: solutionFor(lnS, lnF),
   };
-}
-
-function posteriorCovariance(
-  readings: TimedReading[],
-  lnS: number,
-  lnF: number,
-  fitF: boolean,
-  sd: number,
-  prior: Prior,
-  solutionFor: (lnS: number, lnF: number) => Solution,
-): [[number, number], [number, number]] {
-  const d = 1e-3;
-  const at = (a: number, b: number) => {
-    const sol = solutionFor(a, b);
-    return readings.map((r) => sol.centerC(r.tS));
-  };
-  const ps = at(lnS + d, lnF);
-  const ms = at(lnS - d, lnF);
-  const js = ps.map((v, i) => (v - ms[i]) / (2 * d) / sd);
-  let jf = readings.map(() => 0);
-  if (fitF) {
-    const pf = at(lnS, lnF + d);
-    const mf = at(lnS, lnF - d);
-    jf = pf.map((v, i) => (v - mf[i]) / (2 * d) / sd);
-  }
-  // Gauss–Newton Hessian of the weighted residuals plus the prior precision.
-  const a = js.reduce((acc, v) => acc + v * v, 0) + 1 / prior.lnS.sd ** 2;
-  const b = js.reduce((acc, v, i) => acc + v * jf[i], 0);
-  const c = jf.reduce((acc, v) => acc + v * v, 0) + 1 / prior.lnF.sd ** 2;
-  if (!fitF) return [[1 / a, 0], [0, prior.lnF.sd ** 2]];
-  const det = a * c - b * b;
-  return [
-    [c / det, -b / det],
-    [-b / det, a / det],
-  ];
 }

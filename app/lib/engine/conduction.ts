@@ -922,8 +922,9 @@ abstract class BaseSolution implements Solution {
     if (g(0) <= 0) return 0;
     if (this.ambientC >= targetC) return null;
     let tPrev = 0;
-    // Grid from Fo = 0.001 (where a few tens of terms suffice) in steps of 30 %.
-    for (let t = 1e-3 * this.timeScaleS(); tPrev < maxS; t *= 1.3) {
+    // Grid from Fo = 0.001 (where a few tens of terms suffice), doubling: a cooling core falls
+    // monotonically, so the grid only brackets the crossing for Brent; it need not be fine.
+    for (let t = 1e-3 * this.timeScaleS(); tPrev < maxS; t *= 2) {
       const tNow = Math.min(t, maxS);
       if (g(tNow) <= 0) return findRootBrent(g, tPrev, tNow, 0.5);
       tPrev = tNow;

@@ -1,5 +1,5 @@
-import { levenbergMarquardt } from "ml-levenberg-marquardt";
 import { calibrate, defaultPrior, PROBE_SD_K, scaleGeometry, solveScaled, type BatchModel, type Calibration, type Prior, type TimedReading } from "./calibrate";
+import { fitLeastSquares, invertSmall } from "./least-squares";
 import { continueFrom, solveConduction, type Geometry, type Solution } from "./conduction";
 
 export const HORIZON_S = 48 * 3600;
@@ -18,6 +18,8 @@ export type StagePrediction = {
   probability: number | null;
   /** True when a reading already met this stage (the record, not the model). */
   metByReading: boolean;
+  /** Standard deviation of ln(reach time): parameter spread and the model floor. */
+  sdLnT: number;
 };
 
 /** Three levels, in the product's own words: making it comfortably, cutting it close, will miss. */
@@ -84,13 +86,24 @@ function band(reach: (lnS: number, lnF: number) => number | null, lnS: number, l
   return { t: t0, sd: Math.sqrt(variance + MODEL_SD_LN_T ** 2) };
 }
 
-function stagePredictions(targets: StageTarget[], reachFor: (lnS: number, lnF: number) => Reacher, lnS: number, lnF: number, cov: Calibration["cov"], offsetS: number, nowS: number): StagePrediction[] {
-  return targets.map((stage) => {
+function stagePredictions(
+  targets: StageTarget[],
+  reachFor: (lnS: number, lnF: number) => Reacher,
+  lnS: number,
+  lnF: number,
+  cov: Calibration["cov"],
+  offsetS: number,
+  nowS: number,
+  /** A spread per stage to reuse instead of propagating the covariance again (what-ifs). */
+  spread?: number[],
+): StagePrediction[] {
+  return targets.map((stage, i) => {
     const metByReading = stage.metAtS != null;
-    const b = band((a, c) => {
+    const reach = (a: number, c: number) => {
       const t = reachFor(a, c)(stage.targetC);
       return t === null ? null : t + offsetS;
-    }, lnS, lnF, cov);
+    };
+    const b = spread ? { t: reach(lnS, lnF), sd: spread[i] } : band(reach, lnS, lnF, cov);
     const reachS = metByReading ? stage.metAtS! : b.t;
     let probability: number | null = null;
     if (metByReading) probability = stage.deadlineS === null || stage.metAtS! <= stage.deadlineS ? 1 : 0;
@@ -107,6 +120,7 @@ function stagePredictions(targets: StageTarget[], reachFor: (lnS: number, lnF: n
       highS: metByReading || b.t === null ? reachS : b.t * Math.exp(Z90 * b.sd),
       probability,
       metByReading,
+      sdLnT: b.sd,
     };
   });
 }
@@ -171,15 +185,9 @@ export function predictBatch(input: PredictInput): BatchPrediction {
       built.set(key, reacher);
       return reacher;
     };
-    const altStages = stagePredictions(
-      input.stages.map((s) => (s.metAtS != null ? s : { ...s })),
-      altFor,
-      lnS,
-      lnF,
-      cal.cov,
-      nowS,
-      input.nowS,
-    );
+    // A what-if's times carry the same relative spread as the batch's own (first order): one build
+    // per what-if instead of three.
+    const altStages = stagePredictions(input.stages, altFor, lnS, lnF, cal.cov, nowS, input.nowS, stages.map((s) => s.sdLnT));
     return { id: alt.id, stages: altStages, verdict: verdictOf(altStages), finishS: lastReach(altStages) };
   });
   alternatives.sort((a, b) => rank(a) - rank(b));
@@ -211,7 +219,6 @@ export function estimateCrossing(model: BatchModel, readings: TimedReading[], up
   if (usable.length === 0 || usable[0].c >= upperC) return null;
   const first = usable[0];
   const shifted: BatchModel = { ...model, initialC: upperC };
-  const n = usable.length;
   const cache = new Map<number, Solution>();
   const solFor = (lnS: number) => {
     let s = cache.get(lnS);
@@ -223,28 +230,17 @@ export function estimateCrossing(model: BatchModel, readings: TimedReading[], up
   };
   // Start from the prior's guess: the time the model takes from the limit to the first reading.
   const guess = solFor(prior.lnS.mean).reachTime(first.c, "center", HORIZON_S) ?? 1800;
-  const scale = [...usable.map(() => PROBE_SD_K), prior.lnS.sd];
-  const fit = levenbergMarquardt(
-    { x: Array.from({ length: n + 1 }, (_, i) => i), y: [...usable.map((r) => r.c), prior.lnS.mean].map((y, i) => y / scale[i]) },
+  const fit = fitLeastSquares(
     ([lnS, lag]) => {
       const sol = solFor(lnS);
-      return (i) => (i < n ? sol.centerC(Math.max(0, usable[i].tS - (first.tS - lag))) : lnS) / scale[i];
+      const r = usable.map((x) => (x.c - sol.centerC(Math.max(0, x.tS - (first.tS - lag)))) / PROBE_SD_K);
+      r.push((lnS - prior.lnS.mean) / prior.lnS.sd);
+      return r;
     },
-    {
-      initialValues: [prior.lnS.mean, guess],
-      minValues: [-4, 0],
-      maxValues: [4, HORIZON_S],
-      gradientDifference: [1e-4, 1],
-      centralDifference: true,
-      maxIterations: 60,
-      errorTolerance: 1e-9,
-    },
+    [prior.lnS.mean, guess],
+    { lo: [-4, 0], hi: [4, HORIZON_S], step: [1e-3, 1], tol: 1e-3 },
   );
-  const [lnS, lag] = fit.parameterValues;
-  // Spread of the lag from the surface factor's spread (the dominant unknown), first order.
-  const d = 0.05;
-  const lagAt = (x: number) => solFor(x).reachTime(first.c, "center", HORIZON_S) ?? lag;
-  const dLag = (lagAt(lnS + d) - lagAt(lnS - d)) / (2 * d);
-  const sd = Math.sqrt(dLag * dLag * prior.lnS.sd ** 2 + 60 ** 2);
+  const [lnS, lag] = fit.p;
+  const sd = Math.sqrt(Math.max(0, invertSmall(fit.jtj)[1][1]) + 60 ** 2);
   return { crossedAtS: first.tS - lag, sdS: sd, surfaceFactor: Math.exp(lnS) };
 }
