@@ -207,6 +207,8 @@ export function solveSlabNumerically(spec: {
   initialC: (xM: number) => number;
   timesS: number[];
   cells?: number;
+  /** Largest time step (s); by default the run is split into about 4000 steps. */
+  maxStepS?: number;
 }): { sys: LineSystem; temperatures: number[][] } {
   const sys = buildLineSystem({
     power: 0,
@@ -219,7 +221,7 @@ export function solveSlabNumerically(spec: {
     ambientC: spec.ambientC,
   });
   const start = sys.centresM.map(spec.initialC);
-  return { sys, temperatures: integrateCrankNicolson(sys, start, spec.timesS) };
+  return { sys, temperatures: integrateCrankNicolson(sys, start, spec.timesS, { maxStepS: spec.maxStepS }) };
 }
 
 /** Cylinder or sphere of radius R, uniform start: temperatures at the cell centres for each time. */
