@@ -11,6 +11,8 @@ export default [
   route("auth/*", "routes/auth.ts"),
   route("healthz", "routes/healthz.ts"),
   route("api/v1/predict", "routes/api.v1.predict.ts"),
+  route("api/v1/batches", "routes/api.v1.batches.ts"),
+  route("api/v1/batches/:id/readings", "routes/api.v1.batches.readings.ts"),
   route("station", "routes/station.tsx"),
   layout("routes/shell.tsx", [
     route("account", "routes/account.tsx"),

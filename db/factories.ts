@@ -1,6 +1,6 @@
 import { hashSecret } from "../app/server/crypto.server";
 import type { Db, Tx } from "./connect";
-import { memberships, organisations, sites, users } from "./schema";
+import { equipment, memberships, organisations, products, sites, users } from "./schema";
 
 type Role = "cook" | "manager" | "qa" | "admin";
 
@@ -76,5 +76,26 @@ export async function createTenant(db: Db | Tx, tag: string, password = "a-long-
     await addMembership(db, user.id, site.id, role);
     people[role] = { id: user.id, email, password, pin: pins[role] };
   }
-  return { org, site, people };
+  const product = await createProduct(db, { siteId: site.id, name: `Chili ${tag}`, composition: { water: 76, protein: 8, fat: 5, carbohydrate: 9, fibre: 1, ash: 1 }, defaultPanSize: "gn-1/1", defaultPanDepthMm: 100, defaultFillDepthMm: 75 });
+  const walkIn = await createEquipment(db, { siteId: site.id, name: `Walk-in ${tag}`, method: "walk-in" });
+  return { org, site, people, product, walkIn };
+}
+
+export async function createProduct(
+  db: Db | Tx,
+  input: { siteId: string; name: string; composition: Record<string, number>; defaultPanSize?: string; defaultPanDepthMm?: number; defaultFillDepthMm?: number; defaultMethod?: string },
+) {
+  const [p] = await db.insert(products).values(input).returning();
+  return p;
+}
+
+export async function createEquipment(db: Db | Tx, input: { siteId: string; name: string; method: string }) {
+  const [e] = await db.insert(equipment).values(input).returning();
+  return e;
+}
+
+/** The demo library on one site: recipes and cooling equipment. */
+export async function addLibrary(db: Db | Tx, siteId: string, library: { products: Parameters<typeof createProduct>[1][]; equipment: Parameters<typeof createEquipment>[1][] }) {
+  for (const p of library.products) await createProduct(db, { ...p, siteId });
+  for (const e of library.equipment) await createEquipment(db, { ...e, siteId });
 }

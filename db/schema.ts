@@ -2,6 +2,7 @@ import { sql } from "drizzle-orm";
 import {
   bigint,
   bigserial,
+  doublePrecision,
   boolean,
   index,
   integer,
@@ -193,3 +194,139 @@ export const rateLimits = pgTable("rate_limits", {
   points: integer().notNull().default(0),
   expire: bigint({ mode: "number" }),
 });
+
+// ---------------------------------------------------------------------------------------------
+// The cooling records. Everything hangs off a site; readings and corrective actions are append-only.
+
+export const batchStateEnum = pgEnum("batch_state", ["cooling", "cooled", "cooled_after_reheat", "discarded"]);
+export const readingKindEnum = pgEnum("reading_kind", ["reading", "reheat"]);
+export const entrySourceEnum = pgEnum("entry_source", ["station", "web", "api"]);
+
+/** A recipe of the site's library: what the engine needs to know about the food, and its usual pan and method. */
+export const products = pgTable(
+  "products",
+  {
+    id: id(),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    name: text().notNull(),
+    // Mass percent: water, protein, fat, carbohydrate, fibre, ash (Choi & Okos inputs).
+    composition: jsonb().$type<Record<string, number>>().notNull(),
+    defaultPanSize: text().notNull().default("gn-1/1"),
+    defaultPanDepthMm: integer().notNull().default(65),
+    defaultFillDepthMm: integer().notNull().default(50),
+    defaultMethod: text().notNull().default("walk-in"),
+    active: boolean().notNull().default(true),
+    createdAt: createdAt(),
+  },
+  (t) => [index().on(t.siteId)],
+);
+
+/** A walk-in, reach-in, blast chiller or ice-bath station, with what the engine has learned of it. */
+export const equipment = pgTable(
+  "equipment",
+  {
+    id: id(),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    name: text().notNull(),
+    method: text().notNull(),
+    // The learned surface factor: mean and sd of ln s over the batches it rests on.
+    learnedLnS: doublePrecision(),
+    learnedSd: doublePrecision(),
+    learnedBatches: integer().notNull().default(0),
+    active: boolean().notNull().default(true),
+    createdAt: createdAt(),
+  },
+  (t) => [index().on(t.siteId)],
+);
+
+export const batches = pgTable(
+  "batches",
+  {
+    id: id(),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    // Made on the client so a retried start creates one batch.
+    clientId: varchar({ length: 64 }).notNull(),
+    productId: uuid()
+      .notNull()
+      .references(() => products.id),
+    lotCode: text().notNull(),
+    quantityKg: doublePrecision(),
+    panSize: text().notNull(),
+    panDepthMm: integer().notNull(),
+    panCount: integer().notNull().default(1),
+    fillDepthMm: integer().notNull(),
+    panMaterial: text().notNull().default("stainless-steel"),
+    lid: boolean().notNull().default(false),
+    method: text().notNull(),
+    equipmentId: uuid().references(() => equipment.id),
+    // The rule set in force when the batch started: a later change of site setting does not rewrite it.
+    ruleSetCode: text().notNull(),
+    startedAt: timestamp({ withTimezone: true }).notNull(),
+    startedBy: uuid().references(() => users.id),
+    startNotCaptured: boolean().notNull().default(false),
+    state: batchStateEnum().notNull().default("cooling"),
+    endedAt: at(),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex().on(t.siteId, t.clientId), index().on(t.siteId, t.state)],
+);
+
+// Append-only: a trigger refuses UPDATE and DELETE. A correction is a new row naming the one it corrects.
+export const readings = pgTable(
+  "readings",
+  {
+    id: id(),
+    batchId: uuid()
+      .notNull()
+      .references(() => batches.id),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    clientId: varchar({ length: 64 }).notNull(),
+    kind: readingKindEnum().notNull().default("reading"),
+    valueEntered: doublePrecision().notNull(),
+    unitEntered: temperatureUnitEnum().notNull(),
+    valueC: doublePrecision().notNull(),
+    takenAt: timestamp({ withTimezone: true }).notNull(),
+    receivedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    // Entered more than 15 minutes after it was taken.
+    late: boolean().notNull(),
+    takenAtEdited: boolean().notNull().default(false),
+    probe: text(),
+    photoId: uuid(),
+    enteredBy: uuid().references(() => users.id),
+    source: entrySourceEnum().notNull(),
+    stationDeviceId: uuid().references(() => stationDevices.id),
+    apiTokenId: uuid().references(() => siteApiTokens.id),
+    correctsReadingId: uuid(),
+    correctionReason: text(),
+  },
+  (t) => [uniqueIndex().on(t.batchId, t.clientId), index().on(t.batchId, t.takenAt)],
+);
+
+// Append-only too: what was done about a batch, by whom and when.
+export const correctiveActions = pgTable(
+  "corrective_actions",
+  {
+    id: id(),
+    batchId: uuid()
+      .notNull()
+      .references(() => batches.id),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    clientId: varchar({ length: 64 }).notNull(),
+    kind: text().notNull(),
+    detail: jsonb().$type<Record<string, unknown>>().notNull().default(sql`'{}'::jsonb`),
+    takenBy: uuid().references(() => users.id),
+    takenAt: timestamp({ withTimezone: true }).notNull(),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex().on(t.batchId, t.clientId)],
+);

@@ -1,8 +1,8 @@
 import { eq } from "drizzle-orm";
 import { connect } from "./connect";
-import { DEMO_PASSWORD, demoOrganisation, demoSites, demoUsers } from "./demo";
-import { addMembership, createOrganisation, createSite, createUser } from "./factories";
-import { auditEvents, organisations } from "./schema";
+import { DEMO_PASSWORD, demoEquipment, demoOrganisation, demoProducts, demoSites, demoUsers } from "./demo";
+import { addLibrary, addMembership, createOrganisation, createSite, createUser } from "./factories";
+import { auditEvents, organisations, products, sites } from "./schema";
 
 // `tsx db/seed.ts` builds the demo scenario once; `--print` lists the demo sign-ins.
 if (process.argv.includes("--print")) {
@@ -47,5 +47,15 @@ if (existing.length > 0) {
     });
   });
   console.log("  demo scenario created");
+}
+// The library arrived after the first demo databases: add it to any demo site that has none.
+const demoSiteRows = await db
+  .select({ id: sites.id })
+  .from(sites)
+  .innerJoin(organisations, eq(organisations.id, sites.organisationId))
+  .where(eq(organisations.slug, demoOrganisation.slug));
+for (const site of demoSiteRows) {
+  const has = await db.select({ id: products.id }).from(products).where(eq(products.siteId, site.id)).limit(1);
+  if (has.length === 0) await addLibrary(db, site.id, { products: demoProducts.map((p) => ({ ...p, siteId: site.id })), equipment: demoEquipment.map((e) => ({ ...e, siteId: site.id })) });
 }
 await pool.end();

@@ -23,6 +23,8 @@ export type Assessment = {
   prediction: BatchPrediction;
   /** When the start was not captured: the model's estimate of the crossing, epoch ms, with its sd in seconds. */
   crossingEstimate: { at: number; sdS: number } | null;
+  /** Epoch ms that the prediction's seconds count from: the batch start, or the counted reheat. */
+  originAt: number;
   /** True when some deadline the prediction used is not yet fixed by the readings (the clock has not started, or stage 1 is open). */
   provisionalDeadlines: boolean;
   alternativeLabels: Record<string, string>;
@@ -94,5 +96,5 @@ export function assessBatch(input: AssessInput): Assessment {
     previous = prediction.stages[i];
   }
   const final = again ? predictBatch({ model: physics.model, readings: timed(origin, since), nowS: (now - origin) / 1000, stages, prior: physics.prior, alternatives }) : prediction;
-  return { evaluation, prediction: final, provisionalDeadlines: provisional, crossingEstimate, alternativeLabels: Object.fromEntries(alternatives.map((a) => [a.id, a.label])) };
+  return { evaluation, prediction: final, originAt: origin, provisionalDeadlines: provisional, crossingEstimate, alternativeLabels: Object.fromEntries(alternatives.map((a) => [a.id, a.label])) };
 }

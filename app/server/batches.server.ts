@@ -1,0 +1,314 @@
+import { and, asc, eq, inArray, ne } from "drizzle-orm";
+import { z } from "zod";
+import { batches, equipment, products, readings, sites } from "~db/schema";
+import { assessBatch, type Assessment } from "~/lib/engine/assess";
+import { coolingMethodIds, PanFillSchema, panMaterialIds, panSizeIds } from "~/lib/engine/equipment";
+import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
+import { getRuleSet } from "~/lib/rule-sets";
+import { toCelsius } from "~/lib/temperature";
+import { recordAudit, type Actor } from "./audit.server";
+import { db } from "./db.server";
+
+/** An entry made more than this long after it was taken is marked late in every view and export. */
+export const LATE_AFTER_MS = 15 * 60_000;
+/** How far back a cook may set a reading's time. */
+export const MAX_BACKDATE_MS = 12 * 3600_000;
+const CLOCK_SKEW_MS = 60_000;
+/** A rise of more than this between readings gets a warning, not a block (common practice: 3 K ≈ 5 °F). */
+export const RISE_WARNING_K = 3;
+
+const uuid = z.uuid("unknown id");
+const clientId = z.string().min(8, "clientId must be 8–64 characters").max(64, "clientId must be 8–64 characters");
+const unit = z.enum(["F", "C"], { error: 'unit must be "F" or "C"' });
+const isoTime = z.iso.datetime({ offset: true, error: "takenAt must be an ISO 8601 time with its offset" });
+
+/** Plausible core temperatures: a probe in cooling food reads between −30 and 110 °C. */
+export function temperatureProblem(value: number, u: "F" | "C") {
+  const c = toCelsius(value, u);
+  if (!Number.isFinite(value)) return "Enter a temperature";
+  if (c < -30 || c > 110) return u === "F" ? "A core temperature is between −22 °F and 230 °F" : "A core temperature is between −30 °C and 110 °C";
+  return null;
+}
+
+export const StartBatchSchema = z.object({
+  clientId,
+  productId: uuid,
+  lotCode: z.string().trim().min(1, "Enter the lot or batch code").max(60),
+  quantityKg: z.number().positive("quantity must be more than 0 kg").max(5000).optional(),
+  pan: z
+    .object({
+      size: z.enum(panSizeIds, { error: "unknown pan size" }),
+      depthMm: z.number().int(),
+      count: z.number().int().min(1, "at least one pan").max(100).default(1),
+      fillDepthMm: z.number().int().positive("fill depth must be more than 0 mm"),
+      material: z.enum(panMaterialIds, { error: "unknown pan material" }).default("stainless-steel"),
+    })
+    .superRefine((p, ctx) => {
+      const r = PanFillSchema.safeParse({ size: p.size, depthMm: p.depthMm, fillDepthMm: p.fillDepthMm });
+      if (!r.success) for (const i of r.error.issues) ctx.addIssue({ code: "custom", path: i.path, message: i.message });
+    }),
+  lid: z.boolean().default(false),
+  method: z.enum(coolingMethodIds, { error: "unknown cooling method" }),
+  equipmentId: uuid.optional(),
+  start: z.object({ value: z.number({ error: "Enter the start temperature" }), unit, takenAt: isoTime.optional() }),
+});
+
+export const ReadingSchema = z.object({
+  clientId,
+  value: z.number({ error: "Enter a temperature" }),
+  unit,
+  takenAt: isoTime.optional(),
+  probe: z.string().trim().max(60).optional(),
+  kind: z.enum(["reading", "reheat"]).default("reading"),
+  photoId: uuid.optional(),
+  corrects: z.object({ readingId: uuid, reason: z.string().trim().min(3, "Say why this corrects the reading").max(300) }).optional(),
+});
+
+export type StartBatchInput = z.infer<typeof StartBatchSchema>;
+export type ReadingInput = z.infer<typeof ReadingSchema>;
+
+export type Entrant = { actor: Actor; userId: string | null; source: "station" | "web" | "api"; stationDeviceId?: string; apiTokenId?: string };
+type Site = typeof sites.$inferSelect;
+type FieldErrors = Record<string, string>;
+export type Outcome<T> = { ok: true; value: T; created: boolean; warnings: string[] } | { ok: false; status: 400 | 404 | 409; errors: FieldErrors };
+
+const fail = (errors: FieldErrors, status: 400 | 404 | 409 = 400) => ({ ok: false as const, status, errors });
+
+function timeProblem(takenAt: number, now: number, notBefore: number | null) {
+  if (takenAt > now + CLOCK_SKEW_MS) return "The time cannot be in the future";
+  if (takenAt < now - MAX_BACKDATE_MS) return "The time can be at most 12 hours ago";
+  if (notBefore !== null && takenAt < notBefore) return "The time cannot be before the batch began";
+  return null;
+}
+
+export async function startBatch(site: Site, who: Entrant, input: StartBatchInput, now = Date.now()): Promise<Outcome<typeof batches.$inferSelect>> {
+  const existing = await db.select().from(batches).where(and(eq(batches.siteId, site.id), eq(batches.clientId, input.clientId)));
+  if (existing[0]) return { ok: true, value: existing[0], created: false, warnings: [] };
+  const errors: FieldErrors = {};
+  const [product] = await db.select().from(products).where(and(eq(products.id, input.productId), eq(products.siteId, site.id), eq(products.active, true)));
+  if (!product) errors.productId = "unknown product";
+  if (input.equipmentId) {
+    const [eqp] = await db.select({ id: equipment.id }).from(equipment).where(and(eq(equipment.id, input.equipmentId), eq(equipment.siteId, site.id)));
+    if (!eqp) errors.equipmentId = "unknown equipment";
+  }
+  const tProblem = temperatureProblem(input.start.value, input.start.unit);
+  if (tProblem) errors["start.value"] = tProblem;
+  const startedAt = input.start.takenAt ? Date.parse(input.start.takenAt) : now;
+  const when = timeProblem(startedAt, now, null);
+  if (when) errors["start.takenAt"] = when;
+  if (Object.keys(errors).length) return fail(errors);
+
+  const rule = getRuleSet(site.ruleSetCode)!;
+  const startC = toCelsius(input.start.value, input.start.unit);
+  const upper = rule.clockStartsAt === "upper-limit" ? (input.start.unit === "F" ? rule.stages[0].from.f : rule.stages[0].from.c) : null;
+  const startNotCaptured = upper !== null && input.start.value < upper;
+  const warnings = startNotCaptured ? ["startBelowUpperLimit"] : [];
+  const batch = await db.transaction(async (tx) => {
+    const [b] = await tx
+      .insert(batches)
+      .values({
+        siteId: site.id,
+        clientId: input.clientId,
+        productId: input.productId,
+        lotCode: input.lotCode,
+        quantityKg: input.quantityKg ?? null,
+        panSize: input.pan.size,
+        panDepthMm: input.pan.depthMm,
+        panCount: input.pan.count,
+        fillDepthMm: input.pan.fillDepthMm,
+        panMaterial: input.pan.material,
+        lid: input.lid,
+        method: input.method,
+        equipmentId: input.equipmentId ?? null,
+        ruleSetCode: site.ruleSetCode,
+        startedAt: new Date(startedAt),
+        startedBy: who.userId,
+        startNotCaptured,
+      })
+      .onConflictDoNothing()
+      .returning();
+    if (!b) return null;
+    await tx.insert(readings).values({
+      batchId: b.id,
+      siteId: site.id,
+      clientId: `${input.clientId}:start`,
+      valueEntered: input.start.value,
+      unitEntered: input.start.unit,
+      valueC: startC,
+      takenAt: new Date(startedAt),
+      receivedAt: new Date(now),
+      late: now - startedAt > LATE_AFTER_MS,
+      takenAtEdited: !!input.start.takenAt,
+      enteredBy: who.userId,
+      source: who.source,
+      stationDeviceId: who.stationDeviceId ?? null,
+      apiTokenId: who.apiTokenId ?? null,
+    });
+    await recordAudit(tx, { actor: who.actor, organisationId: site.organisationId, siteId: site.id, action: "batch.started", entity: "batch", entityId: b.id, data: { lotCode: input.lotCode, startC, startNotCaptured } });
+    return b;
+  });
+  if (!batch) {
+    // Another request with the same client id won the race: answer with its batch.
+    const [b] = await db.select().from(batches).where(and(eq(batches.siteId, site.id), eq(batches.clientId, input.clientId)));
+    return { ok: true, value: b, created: false, warnings: [] };
+  }
+  return { ok: true, value: batch, created: true, warnings };
+}
+
+export async function recordReading(site: Site, who: Entrant, batchId: string, input: ReadingInput, now = Date.now()): Promise<Outcome<typeof readings.$inferSelect>> {
+  const [batch] = await db.select().from(batches).where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+  if (!batch) return fail({ batch: "not found" }, 404);
+  const [dup] = await db.select().from(readings).where(and(eq(readings.batchId, batch.id), eq(readings.clientId, input.clientId)));
+  if (dup) return { ok: true, value: dup, created: false, warnings: [] };
+  // An ended batch takes corrections only (a mistyped reading may have ended it).
+  if (batch.state !== "cooling" && !input.corrects) return fail({ batch: "This batch has ended; it takes no more readings, only corrections" }, 409);
+  if (batch.state === "discarded") return fail({ batch: "This batch was discarded" }, 409);
+
+  const errors: FieldErrors = {};
+  const tProblem = temperatureProblem(input.value, input.unit);
+  if (tProblem) errors.value = tProblem;
+  const takenAt = input.takenAt ? Date.parse(input.takenAt) : now;
+  const when = timeProblem(takenAt, now, batch.startedAt.getTime());
+  if (when) errors.takenAt = when;
+  const earlier = await db.select().from(readings).where(eq(readings.batchId, batch.id)).orderBy(asc(readings.takenAt));
+  if (input.corrects && !earlier.some((r) => r.id === input.corrects!.readingId)) errors["corrects.readingId"] = "That reading is not one of this batch's";
+  if (Object.keys(errors).length) return fail(errors);
+
+  const valueC = toCelsius(input.value, input.unit);
+  const warnings: string[] = [];
+  const before = earlier.filter((r) => r.takenAt.getTime() <= takenAt && r.kind === "reading").at(-1);
+  if (input.kind === "reading" && before && valueC - before.valueC > RISE_WARNING_K) warnings.push("risingTemperature");
+  const row = await db.transaction(async (tx) => {
+    const [r] = await tx
+      .insert(readings)
+      .values({
+        batchId: batch.id,
+        siteId: site.id,
+        clientId: input.clientId,
+        kind: input.kind,
+        valueEntered: input.value,
+        unitEntered: input.unit,
+        valueC,
+        takenAt: new Date(takenAt),
+        receivedAt: new Date(now),
+        late: now - takenAt > LATE_AFTER_MS,
+        takenAtEdited: !!input.takenAt && Math.abs(takenAt - now) > CLOCK_SKEW_MS,
+        probe: input.probe ?? null,
+        photoId: input.photoId ?? null,
+        enteredBy: who.userId,
+        source: who.source,
+        stationDeviceId: who.stationDeviceId ?? null,
+        apiTokenId: who.apiTokenId ?? null,
+        correctsReadingId: input.corrects?.readingId ?? null,
+        correctionReason: input.corrects?.reason ?? null,
+      })
+      .onConflictDoNothing()
+      .returning();
+    if (!r) return null;
+    await recordAudit(tx, {
+      actor: who.actor,
+      organisationId: site.organisationId,
+      siteId: site.id,
+      action: input.corrects ? "reading.corrected" : "reading.recorded",
+      entity: "reading",
+      entityId: r.id,
+      data: { batchId: batch.id, valueEntered: input.value, unit: input.unit, late: r.late, corrects: input.corrects?.readingId ?? null },
+    });
+    return r;
+  });
+  if (!row) {
+    const [r] = await db.select().from(readings).where(and(eq(readings.batchId, batch.id), eq(readings.clientId, input.clientId)));
+    return { ok: true, value: r, created: false, warnings: [] };
+  }
+  await settleState(site, batch.id, now);
+  return { ok: true, value: row, created: true, warnings };
+}
+
+/** The readings that count: a correction stands in place of the reading it corrects. */
+export function effectiveReadings(rows: (typeof readings.$inferSelect)[]) {
+  const corrected = new Map<string, typeof readings.$inferSelect>();
+  for (const r of rows) if (r.correctsReadingId) corrected.set(r.correctsReadingId, r);
+  return rows.filter((r) => !r.correctsReadingId).map((r) => {
+    let last = r;
+    while (corrected.has(last.id)) last = corrected.get(last.id)!;
+    return last === r ? r : { ...last, id: r.id };
+  });
+}
+
+/** The rule's evaluation and the engine's prediction for a batch, now. */
+export async function assess(site: Site, batchId: string, now = Date.now()): Promise<Assessment | null> {
+  const [row] = await db
+    .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
+    .from(batches)
+    .innerJoin(products, eq(products.id, batches.productId))
+    .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
+    .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+  if (!row) return null;
+  const rows = await db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt));
+  return assessRows(site, row, rows, now);
+}
+
+function assessRows(
+  site: Site,
+  row: { batch: typeof batches.$inferSelect; product: typeof products.$inferSelect; learnedLnS: number | null; learnedSd: number | null; learnedBatches: number | null },
+  rows: (typeof readings.$inferSelect)[],
+  now: number,
+) {
+  const { batch, product } = row;
+  const counted = effectiveReadings(rows);
+  const start = counted[0];
+  const startC = start ? start.valueC : 60;
+  const composition = CompositionSchema.parse(product.composition);
+  const food = averageProperties(composition, { fromC: Math.max(startC, 5), toC: 3 });
+  return assessBatch({
+    ruleSet: getRuleSet(batch.ruleSetCode)!,
+    setup: {
+      food,
+      pan: { size: batch.panSize, depthMm: batch.panDepthMm },
+      fillDepthMm: batch.fillDepthMm,
+      panMaterial: batch.panMaterial,
+      lid: batch.lid,
+      method: batch.method,
+      startC,
+      learned: row.learnedLnS !== null && row.learnedBatches ? { lnS: row.learnedLnS, sd: row.learnedSd ?? 0.3, batches: row.learnedBatches } : undefined,
+    },
+    batchStartedAt: batch.startedAt.getTime(),
+    readings: counted.map((r) => ({ id: r.id, takenAt: r.takenAt.getTime(), value: r.valueEntered, unit: r.unitEntered, kind: r.kind })),
+    siteUnit: site.temperatureUnit,
+    now,
+  });
+}
+
+/** The state follows the record: cooled once the readings meet every stage, cooling again if a correction undoes that. */
+async function settleState(site: Site, batchId: string, now: number) {
+  const a = await assess(site, batchId, now);
+  if (!a) return;
+  const state = a.evaluation.outcome === "passed" ? (a.evaluation.attempts.length > 1 ? "cooled_after_reheat" : "cooled") : "cooling";
+  await db.transaction(async (tx) => {
+    const [b] = await tx
+      .update(batches)
+      .set({ state, endedAt: state === "cooling" ? null : new Date(now) })
+      .where(and(eq(batches.id, batchId), ne(batches.state, state), ne(batches.state, "discarded")))
+      .returning({ id: batches.id });
+    if (b) await recordAudit(tx, { actor: { kind: "system", label: "rule evaluation" }, organisationId: site.organisationId, siteId: site.id, action: `batch.${state}`, entity: "batch", entityId: batchId });
+  });
+}
+
+/** Active batches of some sites, each with its current assessment (for the API and the live view). */
+export async function listActive(siteRows: Site[], now = Date.now()) {
+  if (siteRows.length === 0) return [];
+  const ids = siteRows.map((s) => s.id);
+  const rows = await db
+    .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
+    .from(batches)
+    .innerJoin(products, eq(products.id, batches.productId))
+    .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
+    .where(and(inArray(batches.siteId, ids), eq(batches.state, "cooling")))
+    .orderBy(asc(batches.startedAt));
+  const all = rows.length ? await db.select().from(readings).where(inArray(readings.batchId, rows.map((r) => r.batch.id))).orderBy(asc(readings.takenAt)) : [];
+  return rows.map((row) => {
+    const site = siteRows.find((s) => s.id === row.batch.siteId)!;
+    const mine = all.filter((r) => r.batchId === row.batch.id);
+    return { ...row, readings: mine, assessment: assessRows(site, row, mine, now) };
+  });
+}
