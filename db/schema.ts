@@ -70,6 +70,8 @@ export const users = pgTable(
     pinHash: text(),
     pinFailedAttempts: integer().notNull().default(0),
     pinLockedAt: at(),
+    // Raised by a password reset or change and by signing out: every older session stops working.
+    sessionVersion: integer().notNull().default(0),
     active: boolean().notNull().default(true),
     createdAt: createdAt(),
   },

@@ -1,6 +1,6 @@
-import { eq } from "drizzle-orm";
+import { eq, sql } from "drizzle-orm";
 import { useTranslation } from "react-i18next";
-import { data, Form } from "react-router";
+import { data, Form, redirect } from "react-router";
 import { z } from "zod";
 import { users } from "~db/schema";
 import { SelectField } from "~/components/controls";
@@ -11,6 +11,7 @@ import { NewPasswordSchema, PinSchema } from "~/lib/passwords";
 import { recordAudit } from "~/server/audit.server";
 import { hashSecret, verifySecret } from "~/server/crypto.server";
 import { db } from "~/server/db.server";
+import { clearSessionCookie } from "~/server/auth.server";
 import { requireUser } from "~/server/guards.server";
 import type { Route } from "./+types/account";
 
@@ -55,9 +56,11 @@ export async function action({ request }: Route.ActionArgs) {
     }
     const passwordHash = await hashSecret(input.password);
     await db.transaction(async (tx) => {
-      await tx.update(users).set({ passwordHash }).where(eq(users.id, user.id));
+      // Every session ends, this one too: the person signs in again with the new password.
+      await tx.update(users).set({ passwordHash, sessionVersion: sql`${users.sessionVersion} + 1` }).where(eq(users.id, user.id));
       await recordAudit(tx, audit("user.password_changed"));
     });
+    return redirect("/signin?passwordSet=1", { headers: { "Set-Cookie": clearSessionCookie() } });
   } else {
     const pinHash = await hashSecret(input.pin);
     await db.transaction(async (tx) => {

@@ -4,7 +4,7 @@ import { z } from "zod";
 import { Field, Notice, PublicFrame } from "~/components/frame";
 import { isLanguage } from "~/lib/i18n";
 import { requestPasswordReset } from "~/server/accounts.server";
-import { clientAddress, consume, resetRequestsByAccount, resetRequestsByAddress } from "~/server/rate-limit.server";
+import { clientAddress, consumeAll, resetRequestsByAccount, resetRequestsByAddress } from "~/server/rate-limit.server";
 import type { Route } from "./+types/forgot-password";
 
 export const meta: Route.MetaFunction = () => [{ title: "Reset your password · Chillwright" }];
@@ -16,10 +16,11 @@ export async function action({ request }: Route.ActionArgs) {
   if (!parsed.success) return data({ sent: false, error: "email" as const }, { status: 400 });
   const email = parsed.data.email.toLowerCase();
   // The answer is the same whether or not the address has an account, and whether or not it was throttled.
-  const allowed = (await consume(resetRequestsByAddress, clientAddress(request))) && (await consume(resetRequestsByAccount, email));
+  const allowed = await consumeAll([[resetRequestsByAddress, clientAddress(request)], [resetRequestsByAccount, email]]);
   if (allowed) {
     const lang = request.headers.get("accept-language")?.slice(0, 2);
-    await requestPasswordReset(email, isLanguage(lang) ? lang : "en");
+    // Not awaited: the answer must take as long for an unknown address as for a real account.
+    requestPasswordReset(email, isLanguage(lang) ? lang : "en").catch((e) => console.error("password reset e-mail failed", e));
   }
   return data({ sent: true, error: null });
 }

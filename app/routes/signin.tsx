@@ -7,7 +7,7 @@ import type { Route } from "./+types/signin";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sign in · Chillwright" }];
 
-const localPath = (s: string | null) => (s && /^\/(?!\/)/.test(s) ? s : "/");
+const localPath = (s: string | null) => (s && /^\/(?![\/\\])[^\x00-\x1f]*$/.test(s) ? s : "/");
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await getUser(request);

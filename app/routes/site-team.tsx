@@ -7,7 +7,7 @@ import { fieldErrors } from "~/lib/forms";
 import { PinSchema } from "~/lib/passwords";
 import { inviteToSite } from "~/server/accounts.server";
 import { can, isUuid, notFound, requireRole, type Role } from "~/server/guards.server";
-import { changeRole, findMember, listPendingInvitations, listTeam, revokeInvitation, setActive, setPin } from "~/server/team.server";
+import { changeRole, findMember, mayChangeAccount, listPendingInvitations, listTeam, revokeInvitation, setActive, setPin } from "~/server/team.server";
 import type { Route } from "./+types/site-team";
 
 export const meta: Route.MetaFunction = () => [{ title: "Team · Chillwright" }];
@@ -57,7 +57,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     return data<ActionResult>({ ok: true, intent: input.intent, message: "team.saved", errors: {} });
   }
 
-  const member = await findMember(site.id, input.userId);
+  const member = await findMember(site, input.userId);
   if (!member) notFound();
   const self = member.userId === user.id;
   if (input.intent === "changeRole") {
@@ -65,12 +65,12 @@ export async function action({ request, params }: Route.ActionArgs) {
     if (adminOnly(input.role) || adminOnly(member.role)) return fail({ intent: input.intent, target: member.userId, errors: { form: "team.adminOnly" } }, 403);
     await changeRole(user, site, member, input.role);
   } else if (input.intent === "setPin") {
-    if (adminOnly(member.role)) return fail({ intent: input.intent, target: member.userId, errors: { form: "team.adminOnly" } }, 403);
+    if (adminOnly(member.role) || !(await mayChangeAccount(user, member.userId))) return fail({ intent: input.intent, target: member.userId, errors: { form: "team.adminOnly" } }, 403);
     await setPin(user, site, member.userId, input.pin);
     return data<ActionResult>({ ok: true, intent: input.intent, target: member.userId, message: "team.pinSet", values: { name: member.name }, errors: {} });
   } else {
     if (self) return fail({ intent: input.intent, target: member.userId, errors: { form: "team.notSelf" } });
-    if (adminOnly(member.role)) return fail({ intent: input.intent, target: member.userId, errors: { form: "team.adminOnly" } }, 403);
+    if (adminOnly(member.role) || !(await mayChangeAccount(user, member.userId))) return fail({ intent: input.intent, target: member.userId, errors: { form: "team.adminOnly" } }, 403);
     await setActive(user, site, member.userId, input.intent === "reactivate");
   }
   return data<ActionResult>({ ok: true, intent: input.intent, target: member.userId, message: "team.saved", errors: {} });

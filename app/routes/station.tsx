@@ -76,7 +76,6 @@ export async function action({ request }: Route.ActionArgs) {
     for (const c of clearStationCookies()) headers.append("Set-Cookie", c);
     return redirect("/signin", { headers });
   }
-  await db.update(stationDevices).set({ lastSeenAt: new Date() }).where(eq(stationDevices.id, device.id));
   return redirect("/station", { headers: { "Set-Cookie": stationCookCookie(device.id, result.userId) } });
 }
 

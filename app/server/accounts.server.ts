@@ -1,4 +1,4 @@
-import { and, eq, gt, isNull } from "drizzle-orm";
+import { and, eq, gt, isNull, sql } from "drizzle-orm";
 import { invitations, memberships, organisations, passwordResetTokens, sites, users } from "~db/schema";
 import { getI18n, type Language } from "~/lib/i18n";
 import { recordAudit } from "./audit.server";
@@ -76,7 +76,7 @@ export async function resetPassword(token: string, password: string) {
     if (!used) return false;
     const [user] = await tx
       .update(users)
-      .set({ passwordHash })
+      .set({ passwordHash, sessionVersion: sql`${users.sessionVersion} + 1` })
       .where(and(eq(users.id, used.userId), eq(users.active, true)))
       .returning({ id: users.id, organisationId: users.organisationId });
     if (!user) return false;
@@ -175,23 +175,27 @@ export async function findInvitation(token: string) {
   return row ?? null;
 }
 
+class InvitationRefused extends Error {}
+
 /** Accepts an invitation once: makes (or joins) the account, sets the password, adds the membership. */
 export async function acceptInvitation(token: string, input: { name: string; password: string }) {
   const passwordHash = await hashSecret(input.password);
-  return db.transaction(async (tx) => {
+  const accepted = db.transaction(async (tx) => {
     const [inv] = await tx
       .update(invitations)
       .set({ acceptedAt: new Date() })
       .where(and(eq(invitations.tokenHash, hashToken(token)), isNull(invitations.acceptedAt), isNull(invitations.revokedAt), gt(invitations.expiresAt, new Date())))
       .returning();
     if (!inv) return null;
-    let [user] = await tx.select({ id: users.id }).from(users).where(eq(users.email, inv.email));
+    let [user] = await tx.select({ id: users.id, organisationId: users.organisationId }).from(users).where(eq(users.email, inv.email));
+    // An account of another organisation never joins this one through an invitation.
+    if (user && user.organisationId !== inv.organisationId) throw new InvitationRefused();
     // An account made meanwhile under the same e-mail keeps its own password; it only gains the site.
     if (!user) {
       [user] = await tx
         .insert(users)
         .values({ organisationId: inv.organisationId, name: input.name, email: inv.email, passwordHash, emailVerified: new Date() })
-        .returning({ id: users.id });
+        .returning({ id: users.id, organisationId: users.organisationId });
     }
     await tx.insert(memberships).values({ userId: user.id, siteId: inv.siteId, role: inv.role }).onConflictDoNothing();
     await recordAudit(tx, {
@@ -204,5 +208,9 @@ export async function acceptInvitation(token: string, input: { name: string; pas
       data: { role: inv.role },
     });
     return { userId: user.id };
+  });
+  return accepted.catch((e) => {
+    if (e instanceof InvitationRefused) return null;
+    throw e;
   });
 }

@@ -8,13 +8,7 @@ import { recordAudit } from "./audit.server";
 import { verifySecret } from "./crypto.server";
 import { db } from "./db.server";
 import { env } from "./env.server";
-import {
-  clientAddress,
-  consume,
-  isLimited,
-  signInFailuresByAccount,
-  signInFailuresByAddress,
-} from "./rate-limit.server";
+import { clientAddress, consumeAll, signInFailuresByAccount, signInFailuresByAddress } from "./rate-limit.server";
 
 class TooManyAttempts extends CredentialsSignin {
   code = "rate_limited";
@@ -51,17 +45,17 @@ export const authConfig: AuthConfig = {
         if (!parsed.success) return null;
         const { email, password } = parsed.data;
         const address = clientAddress(request);
-        if ((await isLimited(signInFailuresByAccount, email)) || (await isLimited(signInFailuresByAddress, address))) {
+        // Counted before the password is checked, so parallel guesses cannot slip past the limit;
+        // a right password gives the account's attempt back.
+        if (!(await consumeAll([[signInFailuresByAccount, email], [signInFailuresByAddress, address]]))) {
           throw new TooManyAttempts();
         }
         const [user] = await db
-          .select({ id: users.id, name: users.name, email: users.email, hash: users.passwordHash, active: users.active, organisationId: users.organisationId })
+          .select({ id: users.id, name: users.name, email: users.email, hash: users.passwordHash, active: users.active, organisationId: users.organisationId, sessionVersion: users.sessionVersion })
           .from(users)
           .where(eq(users.email, email));
         const ok = await verifySecret(user?.hash, password);
         if (!user || !ok || !user.active) {
-          await consume(signInFailuresByAccount, email);
-          await consume(signInFailuresByAddress, address);
           if (user) {
             await recordAudit(db, {
               actor: { kind: "system", label: "sign-in" },
@@ -75,6 +69,7 @@ export const authConfig: AuthConfig = {
           return null;
         }
         await signInFailuresByAccount.delete(email);
+        if (address) await signInFailuresByAddress.reward(address, 1);
         await recordAudit(db, {
           actor: { kind: "user", userId: user.id },
           organisationId: user.organisationId,
@@ -82,13 +77,18 @@ export const authConfig: AuthConfig = {
           entity: "user",
           entityId: user.id,
         });
-        return { id: user.id, name: user.name, email: user.email };
+        return { id: user.id, name: user.name, email: user.email, sessionVersion: user.sessionVersion } as { id: string; name: string; email: string };
       },
     }),
   ],
   callbacks: {
+    jwt({ token, user }) {
+      if (user) token.sv = (user as { sessionVersion?: number }).sessionVersion ?? 0;
+      return token;
+    },
     session({ session, token }) {
       if (token.sub) session.user.id = token.sub;
+      (session as { sv?: number }).sv = typeof token.sv === "number" ? token.sv : -1;
       return session;
     },
   },
@@ -96,15 +96,15 @@ export const authConfig: AuthConfig = {
 
 export const handleAuth = (request: Request) => Auth(request, authConfig);
 
-/** The signed-in user's id from the session cookie, or null. */
-export async function getSessionUserId(request: Request): Promise<string | null> {
+/** The signed-in user's id and session version from the session cookie, or null. */
+export async function getSession(request: Request): Promise<{ userId: string; version: number } | null> {
   const cookie = request.headers.get("cookie");
   if (!cookie?.includes("authjs.session-token")) return null;
   const url = new URL("/auth/session", request.url);
   const res = await Auth(new Request(url, { headers: { cookie } }), authConfig);
   if (!res.ok) return null;
-  const session = (await res.json()) as { user?: { id?: string } } | null;
-  return session?.user?.id ?? null;
+  const session = (await res.json()) as { user?: { id?: string }; sv?: number } | null;
+  return session?.user?.id ? { userId: session.user.id, version: session.sv ?? -1 } : null;
 }
 
 /** A CSRF token and its cookie for the sign-in form, which posts straight to Auth.js. */

@@ -14,6 +14,17 @@ const EnvSchema = z.object({
   MAIL_FROM: z.string().default("Chillwright <no-reply@chillwright.local>"),
   TRUST_PROXY: z.stringbool().default(false),
   DB_POOL_MAX: z.coerce.number().int().positive().default(10),
+  // Photos go to files under STORAGE_DIR unless S3_BUCKET names an S3-compatible bucket.
+  STORAGE_DIR: z.string().min(1).default(".data/photos"),
+  S3_ENDPOINT: z.url().optional(),
+  S3_BUCKET: z.string().min(1).optional(),
+  S3_REGION: z.string().min(1).default("us-east-1"),
+  S3_ACCESS_KEY_ID: z.string().min(1).optional(),
+  S3_SECRET_ACCESS_KEY: z.string().min(1).optional(),
+  S3_FORCE_PATH_STYLE: z.stringbool().default(false),
+}).refine((e) => !e.S3_ACCESS_KEY_ID === !e.S3_SECRET_ACCESS_KEY, {
+  path: ["S3_SECRET_ACCESS_KEY"],
+  message: "set S3_ACCESS_KEY_ID and S3_SECRET_ACCESS_KEY together, or neither",
 });
 
 export type Env = z.infer<typeof EnvSchema>;

@@ -1,7 +1,7 @@
 import { and, asc, eq } from "drizzle-orm";
 import { data, redirect } from "react-router";
 import { memberships, sites, users } from "~db/schema";
-import { getSessionUserId } from "./auth.server";
+import { getSession } from "./auth.server";
 import { db } from "./db.server";
 
 export type Role = "cook" | "manager" | "qa" | "admin";
@@ -37,8 +37,9 @@ export function getUser(request: Request): Promise<SessionUser | null> {
 }
 
 async function loadUser(request: Request): Promise<SessionUser | null> {
-  const userId = await getSessionUserId(request);
-  if (!userId) return null;
+  const session = await getSession(request);
+  if (!session) return null;
+  const userId = session.userId;
   const rows = await db
     .select({
       id: users.id,
@@ -47,6 +48,7 @@ async function loadUser(request: Request): Promise<SessionUser | null> {
       email: users.email,
       language: users.language,
       active: users.active,
+      sessionVersion: users.sessionVersion,
       siteId: memberships.siteId,
       siteName: sites.name,
       role: memberships.role,
@@ -57,7 +59,7 @@ async function loadUser(request: Request): Promise<SessionUser | null> {
     .where(eq(users.id, userId))
     .orderBy(asc(sites.name));
   const first = rows[0];
-  if (!first || !first.active) return null;
+  if (!first || !first.active || first.sessionVersion !== session.version) return null;
   return {
     id: first.id,
     organisationId: first.organisationId,

@@ -43,14 +43,21 @@ export async function consume(limiter: RateLimiterPostgres, key: string) {
 }
 
 /**
- * The address a request came from. Behind a reverse proxy (TRUST_PROXY=true) that is the first
- * X-Forwarded-For entry; served directly, react-router-serve does not expose the socket address,
- * so every direct client shares one address bucket.
+ * The address a request came from, or null when it cannot be known. Behind a reverse proxy
+ * (TRUST_PROXY=true) that is the last X-Forwarded-For entry — the one the proxy itself added; the
+ * entries before it are whatever the client sent. Served directly, react-router-serve does not expose
+ * the socket address: then there is no per-address limit (one shared bucket would let a stranger lock
+ * everyone out), and the per-account limits still hold.
  */
-export function clientAddress(request: Request) {
-  if (env.TRUST_PROXY) {
-    const forwarded = request.headers.get("x-forwarded-for")?.split(",")[0]?.trim();
-    if (forwarded) return forwarded;
-  }
-  return "direct";
+export function clientAddress(request: Request): string | null {
+  if (!env.TRUST_PROXY) return null;
+  const hops = request.headers.get("x-forwarded-for")?.split(",").map((h) => h.trim()).filter(Boolean);
+  return hops?.length ? hops[hops.length - 1] : null;
+}
+
+/** Counts one attempt against each key that is known; false when any of them is over its limit. */
+export async function consumeAll(pairs: [RateLimiterPostgres, string | null][]) {
+  let ok = true;
+  for (const [limiter, key] of pairs) if (key !== null && !(await consume(limiter, key))) ok = false;
+  return ok;
 }

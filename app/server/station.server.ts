@@ -1,11 +1,11 @@
-import { and, eq, isNull, sql } from "drizzle-orm";
+import { and, eq, isNull, lt, sql } from "drizzle-orm";
 import { createHmac } from "node:crypto";
 import { memberships, sites, stationDevices, users } from "~db/schema";
 import { recordAudit } from "./audit.server";
 import { hashToken, sameHash, verifySecret } from "./crypto.server";
 import { db } from "./db.server";
 import { env } from "./env.server";
-import { consume, isLimited, pinFailuresByDevice } from "./rate-limit.server";
+import { consume, pinFailuresByDevice } from "./rate-limit.server";
 
 const secure = env.APP_URL.startsWith("https:") ? "; Secure" : "";
 export const STATION_COOKIE = "cw_station";
@@ -73,41 +73,53 @@ export function listStationPeople(siteId: string) {
 
 export type PinResult = { ok: true; userId: string; name: string } | { ok: false; reason: "wrong" | "locked" | "device_limited" | "unknown"; attemptsLeft?: number };
 
-/** Checks a cook's PIN on a station device; repeated failures lock the PIN and slow the device. */
+/**
+ * Checks a cook's PIN on a station device. The attempt is counted before the (slow) hash check, in
+ * one conditional UPDATE, so parallel guesses cannot get past the limit; a right PIN gives it back.
+ */
 export async function verifyStationPin(device: StationDevice, userId: string, pin: string): Promise<PinResult> {
-  if (await isLimited(pinFailuresByDevice, device.id)) return { ok: false, reason: "device_limited" };
+  if (!(await consume(pinFailuresByDevice, device.id))) return { ok: false, reason: "device_limited" };
   const [person] = await db
-    .select({ id: users.id, name: users.name, pinHash: users.pinHash, lockedAt: users.pinLockedAt, failed: users.pinFailedAttempts })
+    .select({ id: users.id, name: users.name, pinHash: users.pinHash })
     .from(users)
     .innerJoin(memberships, and(eq(memberships.userId, users.id), eq(memberships.siteId, device.siteId)))
     .where(and(eq(users.id, userId), eq(users.active, true)));
   if (!person) return { ok: false, reason: "unknown" };
-  if (person.lockedAt) return { ok: false, reason: "locked" };
+  const [reserved] = await db
+    .update(users)
+    .set({ pinFailedAttempts: sql`${users.pinFailedAttempts} + 1` })
+    .where(and(eq(users.id, person.id), isNull(users.pinLockedAt), lt(users.pinFailedAttempts, PIN_LOCK_AFTER)))
+    .returning({ attempts: users.pinFailedAttempts });
+  if (!reserved) return { ok: false, reason: "locked" };
   const actor = { kind: "station" as const, userId: person.id, deviceId: device.id };
   if (await verifySecret(person.pinHash, pin)) {
-    if (person.failed > 0) await db.update(users).set({ pinFailedAttempts: 0 }).where(eq(users.id, person.id));
+    await db.transaction(async (tx) => {
+      await tx.update(users).set({ pinFailedAttempts: 0 }).where(eq(users.id, person.id));
+      await tx.update(stationDevices).set({ lastSeenAt: new Date() }).where(eq(stationDevices.id, device.id));
+      await recordAudit(tx, { actor, organisationId: device.organisationId, siteId: device.siteId, action: "station.pin_accepted", entity: "user", entityId: person.id });
+    });
+    await pinFailuresByDevice.reward(device.id, 1);
     return { ok: true, userId: person.id, name: person.name };
   }
-  await consume(pinFailuresByDevice, device.id);
-  const [after] = await db
-    .update(users)
-    .set({
-      pinFailedAttempts: sql`${users.pinFailedAttempts} + 1`,
-      pinLockedAt: sql`case when ${users.pinFailedAttempts} + 1 >= ${PIN_LOCK_AFTER} then now() else null end`,
-    })
-    .where(eq(users.id, person.id))
-    .returning({ failed: users.pinFailedAttempts, lockedAt: users.pinLockedAt });
-  await recordAudit(db, {
-    actor,
-    organisationId: device.organisationId,
-    siteId: device.siteId,
-    action: after.lockedAt ? "user.pin_locked" : "user.pin_failed",
-    entity: "user",
-    entityId: person.id,
-    data: { failedAttempts: after.failed },
+  const locked = await db.transaction(async (tx) => {
+    const [after] = await tx
+      .update(users)
+      .set({ pinLockedAt: sql`case when ${users.pinFailedAttempts} >= ${PIN_LOCK_AFTER} then now() else ${users.pinLockedAt} end` })
+      .where(eq(users.id, person.id))
+      .returning({ failed: users.pinFailedAttempts, lockedAt: users.pinLockedAt });
+    await recordAudit(tx, {
+      actor,
+      organisationId: device.organisationId,
+      siteId: device.siteId,
+      action: after.lockedAt ? "user.pin_locked" : "user.pin_failed",
+      entity: "user",
+      entityId: person.id,
+      data: { failedAttempts: after.failed },
+    });
+    return after;
   });
-  if (after.lockedAt) return { ok: false, reason: "locked" };
-  return { ok: false, reason: "wrong", attemptsLeft: PIN_LOCK_AFTER - after.failed };
+  if (locked.lockedAt) return { ok: false, reason: "locked" };
+  return { ok: false, reason: "wrong", attemptsLeft: PIN_LOCK_AFTER - locked.failed };
 }
 
 // The cook now at the station: a signed, short-lived cookie naming device, user and expiry.

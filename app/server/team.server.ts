@@ -32,13 +32,25 @@ export function listPendingInvitations(siteId: string) {
 }
 
 /** The member of this site that an action targets, or null (the route answers 404). */
-export async function findMember(siteId: string, userId: string) {
+export async function findMember(site: { id: string; organisationId: string }, userId: string) {
   const [m] = await db
     .select({ userId: users.id, name: users.name, role: memberships.role, membershipId: memberships.id, active: users.active })
     .from(memberships)
     .innerJoin(users, eq(users.id, memberships.userId))
-    .where(and(eq(memberships.siteId, siteId), eq(memberships.userId, userId)));
+    .where(and(eq(memberships.siteId, site.id), eq(memberships.userId, userId), eq(users.organisationId, site.organisationId)));
   return m ?? null;
+}
+
+/**
+ * Whether the actor may change a person's account (PIN, active flag), which counts at every site:
+ * an administrator may; a manager only when the person holds no administrator role anywhere and works
+ * only at sites the manager runs.
+ */
+export async function mayChangeAccount(actor: SessionUser, targetUserId: string) {
+  if (actor.memberships.some((m) => m.role === "admin")) return true;
+  const theirs = await db.select({ siteId: memberships.siteId, role: memberships.role }).from(memberships).where(eq(memberships.userId, targetUserId));
+  const runs = new Set(actor.memberships.filter((m) => m.role === "manager").map((m) => m.siteId));
+  return theirs.every((m) => m.role !== "admin" && runs.has(m.siteId));
 }
 
 type Site = { id: string; organisationId: string };
@@ -62,7 +74,7 @@ export async function changeRole(actor: SessionUser, site: Site, member: { membe
 export async function setPin(actor: SessionUser, site: Site, userId: string, pin: string) {
   const pinHash = await hashSecret(pin);
   await db.transaction(async (tx) => {
-    await tx.update(users).set({ pinHash, pinFailedAttempts: 0, pinLockedAt: null }).where(eq(users.id, userId));
+    await tx.update(users).set({ pinHash, pinFailedAttempts: 0, pinLockedAt: null }).where(and(eq(users.id, userId), eq(users.organisationId, site.organisationId)));
     await recordAudit(tx, {
       actor: actorOf(actor),
       organisationId: site.organisationId,
@@ -76,7 +88,7 @@ export async function setPin(actor: SessionUser, site: Site, userId: string, pin
 
 export async function setActive(actor: SessionUser, site: Site, userId: string, active: boolean) {
   await db.transaction(async (tx) => {
-    await tx.update(users).set({ active }).where(eq(users.id, userId));
+    await tx.update(users).set({ active }).where(and(eq(users.id, userId), eq(users.organisationId, site.organisationId)));
     await recordAudit(tx, {
       actor: actorOf(actor),
       organisationId: site.organisationId,
