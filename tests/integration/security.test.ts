@@ -56,7 +56,10 @@ describe("request security", () => {
   });
 
   it("the language switch refuses to redirect off the site", async () => {
-    const res = await new Client().post("/language", { lang: "es", back: "//evil.example/x" });
-    expect(res.headers.get("location")).toBe("/");
+    for (const back of ["//evil.example/x", "/\\evil.example", "https://evil.example"]) {
+      const res = await new Client().post("/language", { lang: "es", back });
+      expect(res.headers.get("location"), back).toBe("/");
+    }
+    expect((await new Client().post("/language", { lang: "es", back: "/sites?x=1" })).headers.get("location")).toBe("/sites?x=1");
   });
 });

@@ -45,13 +45,25 @@ describe("sign-in", () => {
     expect(await c.signedInUser()).toBeNull();
   });
 
-  it("signing out ends the session", async () => {
+  it("signing out ends the session, even for a copy of the old cookie", async () => {
     const { people } = await newTenant();
     const c = await signedIn(people.qa.email, people.qa.password);
+    const stolen = new Client();
+    stolen.cookies = new Map(c.cookies);
+    expect(location(await stolen.get("/account"))).toBeNull();
     const res = await c.post("/signout", {});
     expect(location(res)).toBe("/signin?signedOut=1");
     expect(await c.signedInUser()).toBeNull();
     expect(location(await c.get("/account"))).toBe("/signin?next=%2Faccount");
+    expect(location(await stolen.get("/account"))).toBe("/signin?next=%2Faccount");
+  });
+
+  it("parallel wrong guesses cannot get past the per-account limit", async () => {
+    const { people } = await newTenant();
+    const clients = Array.from({ length: 12 }, () => new Client());
+    const results = await Promise.all(clients.map((c, i) => c.signIn(people.admin.email, `guess-${i}`)));
+    expect(results.filter((r) => r.location.includes("code=credentials")).length).toBeLessThanOrEqual(5);
+    expect((await new Client().signIn(people.admin.email, people.admin.password)).location).toContain("code=rate_limited");
   });
 
   it("a deactivated account can neither sign in nor keep using its session", async () => {
@@ -74,6 +86,16 @@ describe("sign-in", () => {
     // Another address is refused too: the limit is per account.
     const other = await new Client().signIn(people.qa.email, people.qa.password);
     expect(other.location).toContain("code=rate_limited");
+  });
+
+  it("only the proxy's own hop counts as the address: a client cannot pick its bucket", async () => {
+    const tenant = await newTenant();
+    const c = new Client();
+    for (let i = 0; i < 30; i++) await c.signIn(`nobody-${i}@nowhere.example`, "whatever-it-is");
+    // Prepending a made-up address does not escape the limit of the last hop.
+    const sneaky = new Client();
+    sneaky.address = `203.0.113.9, ${c.address}`;
+    expect((await sneaky.signIn(tenant.people.admin.email, tenant.people.admin.password)).location).toContain("code=rate_limited");
   });
 
   it("thirty failures from one address lock that address for every account", async () => {

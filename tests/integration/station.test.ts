@@ -51,6 +51,17 @@ describe("station devices and PINs", () => {
     expect(location(await station.post("/station", { intent: "pin", userId: cook.id, pin: "97531" }))).toBe("/station");
   });
 
+  it("parallel wrong PINs cannot get more than five tries", async () => {
+    const tenant = await newTenant();
+    const station = await setUpStation(tenant);
+    const results = await Promise.all(Array.from({ length: 10 }, (_, i) => station.post("/station", { intent: "pin", userId: tenant.people.cook.id, pin: String(1000 + i) })));
+    const texts = await Promise.all(results.map((r) => r.text()));
+    expect(texts.filter((t) => t.includes("Wrong PIN")).length).toBeLessThanOrEqual(4);
+    const [row] = await db.select().from(users).where(eq(users.id, tenant.people.cook.id));
+    expect(row.pinLockedAt).not.toBeNull();
+    expect(row.pinFailedAttempts).toBe(5);
+  });
+
   it("a PIN must be 4 to 6 digits; a bad one changes nothing", async () => {
     const tenant = await newTenant();
     const manager = await signedIn(tenant.people.manager.email, tenant.people.manager.password);
@@ -70,11 +81,17 @@ describe("station devices and PINs", () => {
   it("a retired station stops working", async () => {
     const tenant = await newTenant();
     const station = await setUpStation(tenant);
+    const oldToken = station.cookies.get("cw_station")!;
     const res = await station.post("/station", { intent: "retire", userId: tenant.people.manager.id, pin: tenant.people.manager.pin });
     expect(location(res)).toBe("/signin");
     const cookie = station.cookieHeader();
     expect(cookie).not.toContain("cw_station=");
     expect(await (await station.get("/station")).text()).toContain("This device is not a station.");
+    // A copy of the retired device's cookie is refused too.
+    const copy = new Client();
+    copy.cookies.set("cw_station", oldToken);
+    expect(await (await copy.get("/station")).text()).toContain("This device is not a station.");
+    expect((await copy.post("/station", { intent: "pin", userId: tenant.people.cook.id, pin: tenant.people.cook.pin })).status).toBe(401);
   });
 
   it("a cook cannot retire a station", async () => {

@@ -137,6 +137,19 @@ describe("batch prediction", () => {
     expect(p.verdict).toBe("behind");
   });
 
+  it("what the readings show is taken into account: 1.5 K above the limit a minute before the deadline is unlikely to make it", () => {
+    const { model, prior } = buildBatchModel(setup());
+    const truth = solveScaled(model, 1, 1);
+    const tAt = truth.reachTime(22.5, "center", 48 * h)!;
+    const readings = [0.25, 0.5, 0.75].map((f) => ({ tS: f * tAt, c: truth.centerC(f * tAt) })).concat([{ tS: tAt, c: 22.5 }]);
+    const p = predictBatch({ model, readings, nowS: tAt, stages: [{ targetC: 21, deadlineS: tAt + 60 }], prior });
+    const [stage] = p.stages;
+    // The core falls well under 1.5 K a minute here, so the chance is small, and no band starts in the past.
+    expect(stage.probability!).toBeLessThan(0.2);
+    expect(stage.lowS!).toBeGreaterThanOrEqual(tAt);
+    expect(stage.reachS!).toBeGreaterThan(tAt);
+  });
+
   it("temperatures it reports stay between the surroundings and the start", () => {
     const { model, prior } = buildBatchModel(setup());
     const p = predictBatch({ model, readings: [], nowS: 3 * h, stages: fda(), prior });

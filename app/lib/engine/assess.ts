@@ -39,13 +39,16 @@ export function assessBatch(input: AssessInput): Assessment {
   const { ruleSet, setup, batchStartedAt, now } = input;
   const sorted = [...input.readings].sort((a, b) => a.takenAt - b.takenAt);
   const cooling = sorted.filter((r) => r.kind !== "reheat");
+  // The first attempt's crossing is read from the readings before any reheat.
+  const firstReheat = sorted.find((r) => r.kind === "reheat")?.takenAt ?? Infinity;
+  const firstAttempt = cooling.filter((r) => r.takenAt < firstReheat);
   const { model, prior } = buildBatchModel(setup);
   const timed = (from: number, list: RuleReading[]): TimedReading[] => list.map((r) => ({ tS: (r.takenAt - from) / 1000, c: toCelsius(r.value, r.unit) }));
 
   let crossingEstimate: Assessment["crossingEstimate"] = null;
   const upperC = ruleSet.clockStartsAt === "upper-limit" ? ruleSet.stages[0].from.c : null;
-  if (upperC !== null && cooling.length > 0 && toCelsius(cooling[0].value, cooling[0].unit) < upperC) {
-    const est = estimateCrossing(model, timed(batchStartedAt, cooling), upperC, prior);
+  if (upperC !== null && firstAttempt.length > 0 && toCelsius(firstAttempt[0].value, firstAttempt[0].unit) < upperC) {
+    const est = estimateCrossing(model, timed(batchStartedAt, firstAttempt), upperC, prior);
     if (est) crossingEstimate = { at: batchStartedAt + est.crossedAtS * 1000, sdS: est.sdS };
   }
   const evaluation = evaluateRuleSet(ruleSet, {

@@ -45,13 +45,18 @@ function bodyFor(setup: Pick<BatchSetup, "pan" | "fillDepthMm" | "panMaterial" |
   return { geometry, ambientC, sc };
 }
 
+/** The method's plausible range read as ±2 sd of ln s around its default. */
+function methodSpread(sc: SurfaceCoefficients) {
+  const [lo, hi] = [sc.range.top[0] + sc.range.bottom[0], sc.range.top[1] + sc.range.bottom[1]];
+  return Math.max(0.15, Math.log(Math.max(hi, 1e-6) / Math.max(lo, 1e-6)) / 4);
+}
+
 export function buildBatchModel(setup: BatchSetup): { model: BatchModel; prior: Prior; surfaces: SurfaceCoefficients } {
   const { geometry, ambientC, sc } = bodyFor(setup);
   const model: BatchModel = { geometry, k: setup.food.k, alpha: setup.food.alpha, ambientC, initialC: setup.startC };
   // The prior on the surface factor: the equipment's own history when it has one, else the method's
   // plausible range read as ±2 sd around its default.
-  const [lo, hi] = [sc.range.top[0] + sc.range.bottom[0], sc.range.top[1] + sc.range.bottom[1]];
-  const methodSd = Math.max(0.15, Math.log(Math.max(hi, 1e-6) / Math.max(lo, 1e-6)) / 4);
+  const methodSd = methodSpread(sc);
   const prior: Prior = {
     lnS: setup.learned && setup.learned.batches > 0 ? { mean: setup.learned.lnS, sd: Math.max(0.08, setup.learned.sd) } : { mean: 0, sd: methodSd },
     lnF: { mean: 0, sd: 0.15 },
@@ -69,7 +74,8 @@ export function standardAlternatives(setup: BatchSetup): (Alternative & { label:
   for (const method of ["ice-bath-stirred", "ice-bath-still", "blast-chiller"]) {
     if (method === setup.method || !getCoolingMethod(method)) continue;
     const body = bodyFor({ ...setup, method, lid: false });
-    out.push({ id: method, label: getCoolingMethod(method)!.name, geometry: body.geometry, ambientC: body.ambientC, transfer: "continue", keepsSurfaceFactor: false });
+    const surfaceSd = methodSpread(body.sc);
+    out.push({ id: method, label: getCoolingMethod(method)!.name, geometry: body.geometry, ambientC: body.ambientC, transfer: "continue", keepsSurfaceFactor: false, surfaceSd });
   }
   // Same food in twice the pans at half the depth, down to a 25 mm layer (common practice: 2 in or less).
   const shallower = Math.max(25, Math.round(setup.fillDepthMm / 2));

@@ -129,7 +129,7 @@ export function calibrate(model: BatchModel, readings: TimedReading[], prior: Pr
   const readingCost = residualsFor(1)(fit.p).slice(0, n).reduce((a, v) => a + v * v, 0);
   const rms = n > params ? Math.sqrt(readingCost / (n - params)) : 0;
   const sd = Math.max(PROBE_SD_K, rms);
-  if (sd > PROBE_SD_K * 1.5) fit = fitOnce(sd, fit.p);
+  if (sd > PROBE_SD_K) fit = fitOnce(sd, fit.p);
 
   const lnS = fit.p[0];
   const lnF = fitF ? fit.p[1] : prior.lnF.mean;

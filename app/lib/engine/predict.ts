@@ -5,7 +5,13 @@ import { continueFrom, solveConduction, type Geometry, type Solution } from "./c
 export const HORIZON_S = 48 * 3600;
 
 /** A stage limit and its deadline, both from the rule evaluation, in seconds from the batch start. */
-export type StageTarget = { targetC: number; deadlineS: number | null; metAtS?: number | null };
+export type StageTarget = {
+  targetC: number;
+  deadlineS: number | null;
+  metAtS?: number | null;
+  /** The last reading still above the limit: the stage is known not to be met before it. */
+  aboveUntilS?: number | null;
+};
 
 export type StagePrediction = {
   targetC: number;
@@ -38,6 +44,8 @@ export type Alternative = {
   transfer: "continue" | "remix";
   /** Whether the batch's calibrated surface factor applies (same equipment, e.g. lid off) or not. */
   keepsSurfaceFactor: boolean;
+  /** Prior sd of ln s for the new surfaces, when the calibration does not carry over. */
+  surfaceSd?: number;
 };
 
 export type AlternativePrediction = { id: string; stages: StagePrediction[]; verdict: Verdict; finishS: number | null };
@@ -107,17 +115,24 @@ function stagePredictions(
     const reachS = metByReading ? stage.metAtS! : b.t;
     let probability: number | null = null;
     if (metByReading) probability = stage.deadlineS === null || stage.metAtS! <= stage.deadlineS ? 1 : 0;
-    else if (stage.deadlineS !== null) {
+
+    // Conditioned on what the readings already say: not reached before the last reading above the limit.
+    const known = stage.aboveUntilS && stage.aboveUntilS > 0 && b.t !== null ? normalCdf((Math.log(stage.aboveUntilS) - Math.log(b.t)) / b.sd) : 0;
+    if (!metByReading && stage.deadlineS !== null) {
       if (nowS > stage.deadlineS) probability = 0;
       else if (b.t === null) probability = 0;
-      else probability = normalCdf((Math.log(Math.max(1, stage.deadlineS)) - Math.log(b.t)) / b.sd);
+      else {
+        const byDeadline = normalCdf((Math.log(Math.max(1, stage.deadlineS)) - Math.log(b.t)) / b.sd);
+        probability = known >= 1 - 1e-12 ? 0 : Math.max(0, (byDeadline - known) / (1 - known));
+      }
     }
+    const floor = stage.aboveUntilS ?? 0;
     return {
       targetC: stage.targetC,
       deadlineS: stage.deadlineS,
-      reachS,
-      lowS: metByReading || b.t === null ? reachS : b.t * Math.exp(-Z90 * b.sd),
-      highS: metByReading || b.t === null ? reachS : b.t * Math.exp(Z90 * b.sd),
+      reachS: metByReading || reachS === null ? reachS : Math.max(reachS, floor),
+      lowS: metByReading || b.t === null ? reachS : Math.max(floor, b.t * Math.exp(-Z90 * b.sd)),
+      highS: metByReading || b.t === null ? reachS : Math.max(floor, b.t * Math.exp(Z90 * b.sd)),
       probability,
       metByReading,
       sdLnT: b.sd,
@@ -152,6 +167,10 @@ export type PredictInput = {
 export function predictBatch(input: PredictInput): BatchPrediction {
   const prior = input.prior ?? defaultPrior();
   const cal = calibrate(input.model, input.readings, prior);
+  const targets = input.stages.map((s) => ({
+    ...s,
+    aboveUntilS: s.aboveUntilS ?? Math.max(0, ...input.readings.filter((r) => r.c > s.targetC).map((r) => r.tS)),
+  }));
   const lnS = Math.log(cal.s);
   const lnF = Math.log(cal.f);
   const sols = new Map<string, Solution>();
@@ -164,7 +183,7 @@ export function predictBatch(input: PredictInput): BatchPrediction {
     }
     return s;
   };
-  const stages = stagePredictions(input.stages, (a, c) => (target) => reachAfter(solFor(a, c), 0, target), lnS, lnF, cal.cov, 0, input.nowS);
+  const stages = stagePredictions(targets, (a, c) => (target) => reachAfter(solFor(a, c), 0, target), lnS, lnF, cal.cov, 0, input.nowS);
   const nowS = Math.max(0, input.nowS);
   const sol = cal.solution;
 
@@ -187,7 +206,10 @@ export function predictBatch(input: PredictInput): BatchPrediction {
     };
     // A what-if's times carry the same relative spread as the batch's own (first order): one build
     // per what-if instead of three.
-    const altStages = stagePredictions(input.stages, altFor, lnS, lnF, cal.cov, nowS, input.nowS, stages.map((s) => s.sdLnT));
+    // An uncalibrated surface (new equipment) adds its own prior spread: reach time scales at most
+    // as 1/h, so its ln-spread is at most that of h.
+    const extra = alt.keepsSurfaceFactor ? 0 : (alt.surfaceSd ?? 0);
+    const altStages = stagePredictions(targets, altFor, lnS, lnF, cal.cov, nowS, input.nowS, stages.map((s) => Math.sqrt(s.sdLnT ** 2 + extra ** 2)));
     return { id: alt.id, stages: altStages, verdict: verdictOf(altStages), finishS: lastReach(altStages) };
   });
   alternatives.sort((a, b) => rank(a) - rank(b));
