@@ -7,7 +7,7 @@ export default defineConfig({
     projects: [
       {
         resolve: { tsconfigPaths: true },
-        test: { name: "unit", include: ["tests/unit/**/*.test.ts"], environment: "node" },
+        test: { name: "unit", include: ["tests/unit/**/*.test.ts", "tests/unit/**/*.test.tsx"], environment: "node" },
       },
       {
         resolve: { tsconfigPaths: true },

@@ -14,6 +14,8 @@ export default [
   route("api/v1/batches", "routes/api.v1.batches.ts"),
   route("api/v1/batches/:id/readings", "routes/api.v1.batches.readings.ts"),
   route("station", "routes/station.tsx"),
+  route("station/batches/new", "routes/station-batch-new.tsx"),
+  route("station/batches/:batchId", "routes/station-batch.tsx"),
   layout("routes/shell.tsx", [
     route("account", "routes/account.tsx"),
     route("sites", "routes/sites.tsx"),

@@ -90,27 +90,36 @@ export function spreadByTemperature(stages: readonly Pick<StagePrediction, "targ
  * with z = Φ⁻¹(0.95) for the same 90 % as the stage times' lowS/highS. The spread may differ by
  * temperature (one per stage target): `sdLnT` then takes the curve's temperature at t.
  *
- * The band widens with time since the origin and is zero at it, like the stage times' bands. Where a
- * continued solution is not monotone, the envelope of the three values keeps low ≤ curve ≤ high.
+ * The band widens with time since the origin and is zero at it, like the stage times' bands.
+ *
+ * Readings (this attempt's, °C) narrow it the way they floor the stage times: a core that cools
+ * monotonically was at least as warm as a reading before it was taken and no warmer after, so low(t)
+ * is held at or above every later reading and high(t) at or below every earlier one. The band always
+ * keeps the curve inside it (low ≤ curve ≤ high), also where a continued solution is not monotone.
  */
 export function bandSeries(
   solution: Solution,
   originMs: number,
   curve: readonly TemperaturePoint[],
   sdLnT: number | ((c: number) => number),
-  z = Z90,
+  options: { readings?: readonly TemperaturePoint[]; z?: number } = {},
 ): BandPoint[] {
+  const z = options.z ?? Z90;
   const sdAt = typeof sdLnT === "number" ? () => sdLnT : sdLnT;
+  const record = (options.readings ?? []).filter((r) => Number.isFinite(r.t) && Number.isFinite(r.c));
   const out: BandPoint[] = [];
   for (const p of curve) {
     const tS = secondsSince(originMs, p.t);
     const sd = Math.max(0, sdAt(p.c));
     if (!Number.isFinite(sd)) continue;
-    const fast = solution.centerC(tS * Math.exp(z * sd));
-    const slow = solution.centerC(tS * Math.exp(-z * sd));
-    const values = [fast, slow, p.c];
-    if (!values.every(Number.isFinite)) continue;
-    out.push({ t: p.t, low: Math.min(...values), high: Math.max(...values) });
+    let low = solution.centerC(tS * Math.exp(z * sd));
+    let high = solution.centerC(tS * Math.exp(-z * sd));
+    if (!Number.isFinite(low) || !Number.isFinite(high)) continue;
+    for (const r of record) {
+      if (r.t >= p.t) low = Math.max(low, r.c);
+      if (r.t <= p.t) high = Math.min(high, r.c);
+    }
+    out.push({ t: p.t, low: Math.min(low, high, p.c), high: Math.max(low, high, p.c) });
   }
   return out;
 }
@@ -211,11 +220,16 @@ function formatterFor(key: string, make: () => Intl.DateTimeFormat) {
   return f;
 }
 
-/** A clock time in the site's zone: "15:20" by default; a locale may ask for its own form ("3:20 PM"). */
+/**
+ * A clock time in the site's zone: "09:05", "15:20" by default; a locale that reads a 12-hour clock
+ * gets its own form ("3:20 PM").
+ */
 export function formatClock(t: number, timeZone: string, locale = "en-GB"): string {
-  return formatterFor(`clock|${locale}|${timeZone}`, () => new Intl.DateTimeFormat(locale, { timeZone, hour: "numeric", minute: "2-digit" })).format(
-    new Date(t),
-  );
+  return formatterFor(`clock|${locale}|${timeZone}`, () => {
+    const cycle = new Intl.DateTimeFormat(locale, { hour: "numeric" }).resolvedOptions().hourCycle;
+    const hour = cycle === "h23" || cycle === "h24" ? "2-digit" : "numeric";
+    return new Intl.DateTimeFormat(locale, { timeZone, hour, minute: "2-digit" });
+  }).format(new Date(t));
 }
 
 /** The zone's offset from UTC at an instant, ms (Chicago in July: −5 h). */

@@ -1,9 +1,13 @@
 import { eq } from "drizzle-orm";
 import { useState } from "react";
 import { useTranslation } from "react-i18next";
-import { data, Form, redirect } from "react-router";
+import { data, Form, Link, redirect } from "react-router";
 import { z } from "zod";
-import { stationDevices } from "~db/schema";
+import { sites, stationDevices } from "~db/schema";
+import { BatchCard } from "~/components/batch-card";
+import { useLiveNow } from "~/components/use-live-now";
+import { listActive } from "~/server/batches.server";
+import { cardFor } from "~/server/station-entry.server";
 import { Notice } from "~/components/frame";
 import { LanguageSwitch } from "~/components/language-switch";
 import { Wordmark } from "~/components/logo";
@@ -25,21 +29,29 @@ import type { Route } from "./+types/station";
 export const meta: Route.MetaFunction = () => [{ title: "Station · Chillwright" }];
 
 const StationActionSchema = z.discriminatedUnion("intent", [
-  z.object({ intent: z.literal("pin"), userId: z.string().refine(isUuid), pin: z.string().regex(/^\d{4,6}$/) }),
+  z.object({ intent: z.literal("pin"), userId: z.string().refine(isUuid), pin: z.string().regex(/^\d{4,6}$/), next: z.string().regex(/^\/station(\/[\w/-]*)?$/).optional().catch(undefined) }),
   z.object({ intent: z.literal("done") }),
   z.object({ intent: z.literal("retire"), userId: z.string().refine(isUuid), pin: z.string().regex(/^\d{4,6}$/) }),
 ]);
 
 export async function loader({ request }: Route.LoaderArgs) {
   const device = await getStationDevice(request);
-  if (!device) return { station: null, people: [], cook: null };
+  if (!device) return { station: null, people: [], cook: null, cards: [], now: Date.now(), timeZone: "UTC", next: null };
   const people = await listStationPeople(device.siteId);
   const cookId = getStationCookId(request, device);
   const cook = people.find((p) => p.id === cookId) ?? null;
+  const [site] = await db.select().from(sites).where(eq(sites.id, device.siteId));
+  const now = Date.now();
+  const active = await listActive([site], now);
+  const next = new URL(request.url).searchParams.get("next");
   return {
     station: { name: device.name, siteName: device.siteName },
     people: people.map((p) => ({ id: p.id, name: p.name, role: p.role, locked: p.locked, hasPin: p.hasPin })),
     cook: cook ? { id: cook.id, name: cook.name } : null,
+    cards: active.map((b) => cardFor(b.batch, b.product.name, b.readings, b.assessment, site.readingIntervalMinutes)),
+    now,
+    timeZone: site.timeZone,
+    next: next && /^\/station(\/|$)/.test(next) ? next : null,
   };
 }
 
@@ -76,12 +88,14 @@ export async function action({ request }: Route.ActionArgs) {
     for (const c of clearStationCookies()) headers.append("Set-Cookie", c);
     return redirect("/signin", { headers });
   }
-  return redirect("/station", { headers: { "Set-Cookie": stationCookCookie(device.id, result.userId) } });
+  const to = input.intent === "pin" && input.next ? input.next : "/station";
+  return redirect(to, { headers: { "Set-Cookie": stationCookCookie(device.id, result.userId) } });
 }
 
 export default function Station({ loaderData, actionData }: Route.ComponentProps) {
   const { t } = useTranslation();
-  const { station, people, cook } = loaderData;
+  const { station, people, cook, cards, timeZone, next } = loaderData;
+  const now = useLiveNow(loaderData.now);
   const [chosen, setChosen] = useState<string | null>(actionData?.userId || null);
   const [retiring, setRetiring] = useState(actionData?.intent === "retire");
 
@@ -121,17 +135,23 @@ export default function Station({ loaderData, actionData }: Route.ComponentProps
           <section className="card text-center">
             <h1 className="text-2xl font-extrabold">{t("station.loggedInAs", { name: cook.name })}</h1>
             <p className="mt-2 text-lg text-ink-soft">{t("station.readyFor", { name: cook.name.split(" ")[0] })}</p>
-            <Form method="post" className="mt-6">
-              <input type="hidden" name="intent" value="done" />
-              <button type="submit" className="btn-primary min-h-16 w-full max-w-sm text-lg">
-                {t("station.done")}
-              </button>
-            </Form>
+            <div className="mt-6 flex flex-wrap justify-center gap-3">
+              <Link to="/station/batches/new" className="btn-primary min-h-16 px-8 text-lg">
+                {t("batch.start")}
+              </Link>
+              <Form method="post">
+                <input type="hidden" name="intent" value="done" />
+                <button type="submit" className="btn-quiet min-h-16 px-8 text-lg">
+                  {t("station.done")}
+                </button>
+              </Form>
+            </div>
           </section>
         ) : person ? (
           <Form method="post" className="card" key={`${person.id}-${retiring}`}>
             <input type="hidden" name="intent" value={retiring ? "retire" : "pin"} />
             <input type="hidden" name="userId" value={person.id} />
+            {next ? <input type="hidden" name="next" value={next} /> : null}
             <button type="button" className="btn-quiet mb-4" onClick={() => setChosen(null)}>
               ← {t("station.back")}
             </button>
@@ -164,6 +184,18 @@ export default function Station({ loaderData, actionData }: Route.ComponentProps
             </button>
           </section>
         )}
+        {cards.length > 0 ? (
+          <section className="mt-8" aria-labelledby="active">
+            <h2 id="active" className="mb-3 text-xl font-extrabold">
+              {t("batch.active", { count: cards.length })}
+            </h2>
+            <ul className="grid gap-4 md:grid-cols-2">
+              {cards.map((c) => (
+                <BatchCard key={c.id} card={c} now={now} timeZone={timeZone} to={`/station/batches/${c.id}`} />
+              ))}
+            </ul>
+          </section>
+        ) : null}
       </main>
       <footer className="border-t border-line px-6 py-4 text-sm text-ink-soft">{t("app.caution")}</footer>
     </div>

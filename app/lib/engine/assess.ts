@@ -1,7 +1,8 @@
 import type { RuleSet } from "../rule-sets";
 import { toCelsius } from "../temperature";
 import { buildBatchModel, standardAlternatives, type BatchSetup } from "./batch-model";
-import type { TimedReading } from "./calibrate";
+import { solveScaled, type TimedReading } from "./calibrate";
+import type { Solution } from "./conduction";
 import { estimateCrossing, predictBatch, type BatchPrediction, type StagePrediction, type StageTarget } from "./predict";
 import { evaluateRuleSet, type RuleEvaluation, type RuleReading } from "./rules";
 
@@ -23,6 +24,8 @@ export type Assessment = {
   prediction: BatchPrediction;
   /** When the start was not captured: the model's estimate of the crossing, epoch ms, with its sd in seconds. */
   crossingEstimate: { at: number; sdS: number } | null;
+  /** The calibrated model itself, for pictures of the curve and the depth profile (server side). */
+  solution: Solution;
   /** Epoch ms that the prediction's seconds count from: the batch start, or the counted reheat. */
   originAt: number;
   /** True when some deadline the prediction used is not yet fixed by the readings (the clock has not started, or stage 1 is open). */
@@ -99,5 +102,6 @@ export function assessBatch(input: AssessInput): Assessment {
     previous = prediction.stages[i];
   }
   const final = again ? predictBatch({ model: physics.model, readings: timed(origin, since), nowS: (now - origin) / 1000, stages, prior: physics.prior, alternatives }) : prediction;
-  return { evaluation, prediction: final, originAt: origin, provisionalDeadlines: provisional, crossingEstimate, alternativeLabels: Object.fromEntries(alternatives.map((a) => [a.id, a.label])) };
+  const solution = solveScaled(physics.model, final.calibration.s, final.calibration.f);
+  return { evaluation, prediction: final, solution, originAt: origin, provisionalDeadlines: provisional, crossingEstimate, alternativeLabels: Object.fromEntries(alternatives.map((a) => [a.id, a.label])) };
 }

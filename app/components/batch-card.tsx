@@ -1,0 +1,70 @@
+import { useTranslation } from "react-i18next";
+import { Link } from "react-router";
+import type { CardData } from "~/server/station-entry.server";
+
+const verdictStyle = {
+  ahead: "border-pine bg-pine-light text-pine",
+  tight: "border-amber bg-amber-light text-amber",
+  behind: "border-ember bg-ember-light text-ember",
+} as const;
+
+/** Minutes and seconds to go, or past, in a compact form for arm's length. */
+export function countdown(ms: number) {
+  const sign = ms < 0 ? "−" : "";
+  const m = Math.floor(Math.abs(ms) / 60_000);
+  return m >= 60 ? `${sign}${Math.floor(m / 60)} h ${String(m % 60).padStart(2, "0")} min` : `${sign}${m} min`;
+}
+
+export function clock(ms: number, timeZone: string, lang: string) {
+  return new Intl.DateTimeFormat(lang, { timeZone, hour: "2-digit", minute: "2-digit" }).format(ms);
+}
+
+export function BatchCard({ card, now, timeZone, to }: { card: CardData; now: number; timeZone: string; to: string }) {
+  const { t, i18n } = useTranslation();
+  const overdue = card.nextDueAt !== null && now > card.nextDueAt;
+  return (
+    <li>
+      <Link
+        to={to}
+        className={`block rounded-2xl border-2 bg-white p-5 shadow-sm hover:border-glacier ${overdue ? "border-ember ring-4 ring-ember-light" : "border-line"}`}
+        data-testid="batch-card"
+      >
+        <div className="flex items-start justify-between gap-3">
+          <div>
+            <p className="text-lg font-extrabold">{card.product}</p>
+            <p className="text-sm text-ink-soft">
+              {t("batch.lot")} {card.lotCode} · {t("batch.age", { time: countdown(now - card.startedAt).replace("−", "") })}
+            </p>
+          </div>
+          <span className={`rounded-xl border-2 px-3 py-1 text-sm font-extrabold ${verdictStyle[card.verdict]}`} data-testid="verdict">
+            {t(`verdict.${card.verdict}`)}
+          </span>
+        </div>
+        <dl className="mt-4 grid grid-cols-2 gap-3 text-base">
+          <div>
+            <dt className="text-sm text-ink-soft">{t("batch.lastReading")}</dt>
+            <dd className="text-xl font-extrabold">
+              {card.lastReading ? `${card.lastReading.value} °${card.lastReading.unit}` : "—"}
+              {card.lastReading?.late ? <span className="ml-2 rounded bg-amber-light px-1 text-sm text-amber">{t("batch.late")}</span> : null}
+            </dd>
+          </div>
+          <div>
+            <dt className="text-sm text-ink-soft">{card.nextStage ? t("batch.nextLimit", { limit: `${card.nextStage.limit.value} °${card.nextStage.limit.unit}` }) : t("batch.allMet")}</dt>
+            <dd className="text-xl font-extrabold">
+              {card.nextStage?.deadline ? (
+                <>
+                  {clock(card.nextStage.deadline, timeZone, i18n.language)} <span className="text-base font-bold text-ink-soft">({countdown(card.nextStage.deadline - now)})</span>
+                </>
+              ) : (
+                "—"
+              )}
+            </dd>
+          </div>
+        </dl>
+        <p className={`mt-3 text-sm font-bold ${overdue ? "text-ember" : "text-ink-soft"}`}>
+          {card.nextDueAt === null ? null : overdue ? t("batch.readingOverdue", { time: countdown(now - card.nextDueAt).replace("−", "") }) : t("batch.nextReading", { time: clock(card.nextDueAt, timeZone, i18n.language) })}
+        </p>
+      </Link>
+    </li>
+  );
+}
