@@ -332,3 +332,24 @@ export const correctiveActions = pgTable(
   },
   (t) => [uniqueIndex().on(t.batchId, t.clientId)],
 );
+
+// A photo of a probe reading, re-encoded to WebP without metadata; the bytes live in the photo storage.
+export const photos = pgTable(
+  "photos",
+  {
+    id: id(),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    storageKey: text().notNull(),
+    thumbKey: text().notNull(),
+    width: integer().notNull(),
+    height: integer().notNull(),
+    bytes: integer().notNull(),
+    contentType: text().notNull().default("image/webp"),
+    uploadedBy: uuid().references(() => users.id),
+    apiTokenId: uuid().references(() => siteApiTokens.id),
+    createdAt: createdAt(),
+  },
+  (t) => [index().on(t.siteId, t.createdAt)],
+);

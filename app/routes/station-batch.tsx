@@ -12,7 +12,7 @@ import { DepthTimePicture } from "~/components/depth-time-picture";
 import { bandSeries, predictedSeries, sampleDepthTime, spreadByTemperature } from "~/lib/chart-data";
 import { getRuleSet } from "~/lib/rule-sets";
 import { toCelsius } from "~/lib/temperature";
-import { assess, ReadingSchema, recordReading } from "~/server/batches.server";
+import { assess, CorrectiveActionSchema, ReadingSchema, recordReading, takeCorrectiveAction } from "~/server/batches.server";
 import { db } from "~/server/db.server";
 import { isUuid, notFound } from "~/server/guards.server";
 import { requireStationCook } from "~/server/station-entry.server";
@@ -95,30 +95,49 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   };
 }
 
+const num = (v: FormDataEntryValue | null) => (v === null || v === "" ? undefined : Number(String(v).replace(",", ".")));
+const issues = (error: { issues: { path: PropertyKey[]; message: string }[] }) => {
+  const errors: Record<string, string> = {};
+  for (const i of error.issues) errors[i.path.join(".")] ??= i.message;
+  return errors;
+};
+
 export async function action({ request, params }: Route.ActionArgs) {
   const { site, entrant } = await requireStationCook(request);
   if (!isUuid(params.batchId)) notFound();
   const f = await request.formData();
-  const value = f.get("value");
+  const intent = String(f.get("intent") ?? "reading");
+  const fail = (errors: Record<string, string>, status = 400) => data({ intent, errors, warnings: [] as string[] }, { status });
+  if (intent === "change" || intent === "discard") {
+    const [batch] = await db.select({ method: batches.method }).from(batches).where(and(eq(batches.id, params.batchId), eq(batches.siteId, site.id)));
+    if (!batch) notFound();
+    const whatIf = String(f.get("whatIf") ?? "");
+    const parsed = CorrectiveActionSchema.safeParse(
+      intent === "change"
+        ? { kind: "change_method", clientId: f.get("clientId"), method: whatIf === "lid-off" ? batch.method : whatIf, lid: false }
+        : { kind: "discard", clientId: f.get("clientId"), quantityKg: num(f.get("quantityKg")), reason: f.get("reason") },
+    );
+    if (!parsed.success) return fail(issues(parsed.error));
+    const result = await takeCorrectiveAction(site, entrant, params.batchId, parsed.data);
+    if (!result.ok) return fail(result.errors, result.status);
+    return data({ intent, errors: {} as Record<string, string>, warnings: [] as string[] });
+  }
   const takenAt = f.get("takenAt");
   const parsed = ReadingSchema.safeParse({
     clientId: f.get("clientId"),
-    value: value === null || value === "" ? undefined : Number(String(value).replace(",", ".")),
+    value: num(f.get("value")),
     unit: site.temperatureUnit,
     takenAt: takenAt ? new Date(String(takenAt)).toISOString() : undefined,
     probe: f.get("probe") || undefined,
+    kind: intent === "reheat" ? "reheat" : "reading",
   });
-  if (!parsed.success) {
-    const errors: Record<string, string> = {};
-    for (const i of parsed.error.issues) errors[i.path.join(".")] ??= i.message;
-    return data({ errors, warnings: [] as string[] }, { status: 400 });
-  }
+  if (!parsed.success) return fail(issues(parsed.error));
   const result = await recordReading(site, entrant, params.batchId, parsed.data);
   if (!result.ok) {
     if (result.status === 404) notFound();
-    return data({ errors: result.errors, warnings: [] as string[] }, { status: result.status });
+    return fail(result.errors, result.status);
   }
-  return data({ errors: {} as Record<string, string>, warnings: result.warnings });
+  return data({ intent, errors: {} as Record<string, string>, warnings: result.warnings });
 }
 
 const statusTone = { met: "text-pine", missed: "text-ember", "in-progress": "text-amber", "not-started": "text-ink-soft", stopped: "text-ink-soft" } as const;
@@ -185,11 +204,23 @@ export default function StationBatch({ loaderData, actionData }: Route.Component
               <h3 className="font-extrabold">{t("batch.whatIfs")}</h3>
               <ul className="mt-2 grid gap-2">
                 {prediction.whatIfs.map((w) => (
-                  <li key={w.id} className="flex items-center justify-between gap-3 rounded-xl border border-line px-4 py-2">
-                    <span>{t(`whatIf.${w.id}`, { defaultValue: w.label })}</span>
-                    <span className="text-sm font-bold">
-                      {t(`verdict.${w.verdict}`)} · {t("batch.doneBy", { time: at(w.finishS) })}
+                  <li key={w.id} className="flex flex-wrap items-center justify-between gap-3 rounded-xl border border-line px-4 py-2">
+                    <span>
+                      <span className="font-bold">{t(`whatIf.${w.id}`, { defaultValue: w.label })}</span>
+                      <span className="block text-sm">
+                        {t(`verdict.${w.verdict}`)} · {t("batch.doneBy", { time: at(w.finishS) })}
+                      </span>
                     </span>
+                    {cookActive && batch.state === "cooling" && w.id !== "shallower-pans" ? (
+                      <Form method="post">
+                        <input type="hidden" name="intent" value="change" />
+                        <input type="hidden" name="whatIf" value={w.id} />
+                        <input type="hidden" name="clientId" value={`${clientId}-${w.id}`} />
+                        <button type="submit" className="btn-quiet min-h-12 px-4 text-sm" disabled={busy}>
+                          {t("batch.doThisNow")}
+                        </button>
+                      </Form>
+                    ) : null}
                   </li>
                 ))}
               </ul>
@@ -202,19 +233,33 @@ export default function StationBatch({ loaderData, actionData }: Route.Component
           <h2 id="log" className="mb-3 text-lg font-extrabold">
             {t("batch.logReading")}
           </h2>
-          {batch.state !== "cooling" ? (
-            <p>{t("batch.ended")}</p>
-          ) : cookActive ? (
+          {batch.state !== "cooling" ? <p>{t("batch.ended")}</p> : null}
+          {batch.state === "cooling" && cookActive && record.nextStep !== "discard" ? (
             <Form method="post" key={clientId} className="flex flex-col items-center gap-3">
               <input type="hidden" name="clientId" value={clientId} />
-              <TemperatureKeypad name="value" unit={unit} label={t("batch.coreTemperature")} error={errors.value} />
+              <input type="hidden" name="intent" value={record.nextStep === "reheat" ? "reheat" : "reading"} />
+              {record.nextStep === "reheat" ? <Notice tone="warn">{t("batch.reheatHint")}</Notice> : null}
+              <TemperatureKeypad name="value" unit={unit} label={record.nextStep === "reheat" ? t("batch.reheatTemperature") : t("batch.coreTemperature")} error={errors.value} />
               <Field label={t("batch.takenAt")} name="takenAt" type="datetime-local" error={errors.takenAt} hint={t("batch.takenAtHint")} />
               <Field label={t("batch.probe")} name="probe" autoComplete="off" />
               <button type="submit" className="btn-primary min-h-16 w-full text-lg" disabled={busy}>
-                {t("batch.save")}
+                {record.nextStep === "reheat" ? t("batch.saveReheat") : t("batch.save")}
               </button>
             </Form>
-          ) : (
+          ) : null}
+          {batch.state === "cooling" && cookActive && record.nextStep ? (
+            <Form method="post" className="mt-6 w-full border-t border-line pt-4">
+              <h3 className="mb-2 font-extrabold">{t("batch.discard")}</h3>
+              <input type="hidden" name="intent" value="discard" />
+              <input type="hidden" name="clientId" value={`${clientId}-discard`} />
+              <Field label={t("batch.quantityKg")} name="quantityKg" inputMode="decimal" error={errors.quantityKg} />
+              <Field label={t("batch.discardReason")} name="reason" required error={errors.reason} />
+              <button type="submit" className="btn-danger w-full" disabled={busy}>
+                {t("batch.discardSubmit")}
+              </button>
+            </Form>
+          ) : null}
+          {batch.state !== "cooling" || cookActive ? null : (
             <Link to={`/station?next=${encodeURIComponent(`/station/batches/${batch.id}`)}`} className="btn-primary">
               {t("batch.pinToLog")}
             </Link>

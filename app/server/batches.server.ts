@@ -1,6 +1,6 @@
 import { and, asc, eq, inArray, ne } from "drizzle-orm";
 import { z } from "zod";
-import { batches, equipment, products, readings, sites } from "~db/schema";
+import { batches, correctiveActions, equipment, products, readings, sites } from "~db/schema";
 import { assessBatch, type Assessment } from "~/lib/engine/assess";
 import { coolingMethodIds, PanFillSchema, panMaterialIds, panSizeIds } from "~/lib/engine/equipment";
 import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
@@ -63,6 +63,23 @@ export const ReadingSchema = z.object({
   photoId: uuid.optional(),
   corrects: z.object({ readingId: uuid, reason: z.string().trim().min(3, "Say why this corrects the reading").max(300) }).optional(),
 });
+
+export const CorrectiveActionSchema = z.discriminatedUnion("kind", [
+  z.object({
+    kind: z.literal("change_method"),
+    clientId,
+    method: z.enum(coolingMethodIds, { error: "unknown cooling method" }),
+    lid: z.boolean().default(false),
+    equipmentId: uuid.optional(),
+  }),
+  z.object({
+    kind: z.literal("discard"),
+    clientId,
+    quantityKg: z.number().positive("quantity must be more than 0 kg").max(5000).optional(),
+    reason: z.string().trim().min(3, "Say why the batch is discarded").max(300),
+  }),
+]);
+export type CorrectiveActionInput = z.infer<typeof CorrectiveActionSchema>;
 
 export type StartBatchInput = z.infer<typeof StartBatchSchema>;
 export type ReadingInput = z.infer<typeof ReadingSchema>;
@@ -224,6 +241,44 @@ export async function recordReading(site: Site, who: Entrant, batchId: string, i
   return { ok: true, value: row, created: true, warnings };
 }
 
+/**
+ * A corrective action: move the batch to another method now, or discard it (with the quantity). Each
+ * is recorded once (client id), with who and when, in the same transaction as the change it makes.
+ * A reheat is a reading of kind "reheat".
+ */
+export async function takeCorrectiveAction(site: Site, who: Entrant, batchId: string, input: CorrectiveActionInput, now = Date.now()): Promise<Outcome<typeof correctiveActions.$inferSelect>> {
+  const [batch] = await db.select().from(batches).where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+  if (!batch) return fail({ batch: "not found" }, 404);
+  const [dup] = await db.select().from(correctiveActions).where(and(eq(correctiveActions.batchId, batch.id), eq(correctiveActions.clientId, input.clientId)));
+  if (dup) return { ok: true, value: dup, created: false, warnings: [] };
+  if (batch.state !== "cooling") return fail({ batch: "This batch has ended" }, 409);
+  if (input.kind === "change_method" && input.equipmentId) {
+    const [eqp] = await db.select({ id: equipment.id }).from(equipment).where(and(eq(equipment.id, input.equipmentId), eq(equipment.siteId, site.id)));
+    if (!eqp) return fail({ equipmentId: "unknown equipment" });
+  }
+  const { clientId: _c, kind, ...detail } = input;
+  const row = await db.transaction(async (tx) => {
+    const [ca] = await tx
+      .insert(correctiveActions)
+      .values({ batchId: batch.id, siteId: site.id, clientId: input.clientId, kind, detail: { ...detail, from: { method: batch.method, lid: batch.lid } }, takenBy: who.userId, takenAt: new Date(now) })
+      .onConflictDoNothing()
+      .returning();
+    if (!ca) return null;
+    if (input.kind === "change_method") {
+      await tx.update(batches).set({ method: input.method, lid: input.lid, equipmentId: input.equipmentId ?? null }).where(eq(batches.id, batch.id));
+    } else {
+      await tx.update(batches).set({ state: "discarded", endedAt: new Date(now), quantityKg: batch.quantityKg }).where(eq(batches.id, batch.id));
+    }
+    await recordAudit(tx, { actor: who.actor, organisationId: site.organisationId, siteId: site.id, action: `batch.${kind}`, entity: "batch", entityId: batch.id, data: { correctiveActionId: ca.id, ...detail } });
+    return ca;
+  });
+  if (!row) {
+    const [ca] = await db.select().from(correctiveActions).where(and(eq(correctiveActions.batchId, batch.id), eq(correctiveActions.clientId, input.clientId)));
+    return { ok: true, value: ca, created: false, warnings: [] };
+  }
+  return { ok: true, value: row, created: true, warnings: [] };
+}
+
 /** The readings that count: a correction stands in place of the reading it corrects. */
 export function effectiveReadings(rows: (typeof readings.$inferSelect)[]) {
   const corrected = new Map<string, typeof readings.$inferSelect>();
@@ -245,7 +300,8 @@ export async function assess(site: Site, batchId: string, now = Date.now()): Pro
     .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
   if (!row) return null;
   const rows = await db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt));
-  return assessRows(site, row, rows, now);
+  const moves = await db.select({ takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method")));
+  return assessRows(site, row, rows, now, moves.length ? Math.max(...moves.map((m) => m.takenAt.getTime())) : undefined);
 }
 
 function assessRows(
@@ -253,6 +309,7 @@ function assessRows(
   row: { batch: typeof batches.$inferSelect; product: typeof products.$inferSelect; learnedLnS: number | null; learnedSd: number | null; learnedBatches: number | null },
   rows: (typeof readings.$inferSelect)[],
   now: number,
+  movedAt?: number,
 ) {
   const { batch, product } = row;
   const counted = effectiveReadings(rows);
@@ -276,6 +333,7 @@ function assessRows(
     readings: counted.map((r) => ({ id: r.id, takenAt: r.takenAt.getTime(), value: r.valueEntered, unit: r.unitEntered, kind: r.kind })),
     siteUnit: site.temperatureUnit,
     now,
+    movedAt,
   });
 }
 
@@ -305,10 +363,15 @@ export async function listActive(siteRows: Site[], now = Date.now()) {
     .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
     .where(and(inArray(batches.siteId, ids), eq(batches.state, "cooling")))
     .orderBy(asc(batches.startedAt));
-  const all = rows.length ? await db.select().from(readings).where(inArray(readings.batchId, rows.map((r) => r.batch.id))).orderBy(asc(readings.takenAt)) : [];
+  const ids2 = rows.map((r) => r.batch.id);
+  const all = rows.length ? await db.select().from(readings).where(inArray(readings.batchId, ids2)).orderBy(asc(readings.takenAt)) : [];
+  const moves = rows.length
+    ? await db.select({ batchId: correctiveActions.batchId, takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(inArray(correctiveActions.batchId, ids2), eq(correctiveActions.kind, "change_method")))
+    : [];
   return rows.map((row) => {
     const site = siteRows.find((s) => s.id === row.batch.siteId)!;
     const mine = all.filter((r) => r.batchId === row.batch.id);
-    return { ...row, readings: mine, assessment: assessRows(site, row, mine, now) };
+    const moved = moves.filter((m) => m.batchId === row.batch.id).map((m) => m.takenAt.getTime());
+    return { ...row, readings: mine, assessment: assessRows(site, row, mine, now, moved.length ? Math.max(...moved) : undefined) };
   });
 }

@@ -7,7 +7,7 @@ import type { Env } from "./env.server";
 /** Where photo bytes live. Records are kept, so there is no delete. */
 export interface Storage {
   put(key: string, bytes: Uint8Array, contentType: string): Promise<void>;
-  get(key: string): Promise<Uint8Array | null>;
+  get(key: string): Promise<Uint8Array<ArrayBuffer> | null>;
 }
 
 // Segments of letters, digits, "-" and "_", with one optional extension: no "..", no absolute paths.
@@ -75,7 +75,7 @@ export function s3Storage(config: S3Config): Storage {
     async get(key) {
       try {
         const res = await client.send(new GetObjectCommand({ Bucket: config.bucket, Key: assertStorageKey(key) }));
-        return res.Body ? await res.Body.transformToByteArray() : null;
+        return res.Body ? new Uint8Array(await res.Body.transformToByteArray()) : null;
       } catch (error) {
         const e = error as { name?: string; $metadata?: { httpStatusCode?: number } };
         if (e.name === "NoSuchKey" || e.$metadata?.httpStatusCode === 404) return null;

@@ -29,20 +29,31 @@ export class Client {
     }
   }
 
-  async request(path: string, init: { method?: string; form?: Record<string, string>; headers?: Record<string, string>; json?: unknown } = {}) {
+  /**
+   * `form` and `json` set their own Content-Type; `body` (FormData, bytes or a stream) is sent as it
+   * is, with the Content-Type given in `headers` (fetch makes the multipart one for FormData).
+   */
+  async request(
+    path: string,
+    init: { method?: string; form?: Record<string, string>; headers?: Record<string, string>; json?: unknown; body?: BodyInit } = {},
+  ) {
     const headers: Record<string, string> = { "x-forwarded-for": this.address, ...init.headers };
     if (this.cookies.size) headers.cookie = this.cookieHeader();
-    const method = init.method ?? (init.form || init.json ? "POST" : "GET");
+    const method = init.method ?? (init.form || init.json || init.body ? "POST" : "GET");
     if (method !== "GET" && this.origin && !("origin" in headers)) headers.origin = this.origin;
-    let body: string | undefined;
+    let body: BodyInit | undefined;
     if (init.form) {
       headers["content-type"] = "application/x-www-form-urlencoded";
       body = new URLSearchParams(init.form).toString();
     } else if (init.json !== undefined) {
       headers["content-type"] = "application/json";
       body = JSON.stringify(init.json);
+    } else {
+      body = init.body;
     }
-    const res = await fetch(new URL(path, APP_URL), { method, headers, body, redirect: "manual" });
+    // A streamed request body needs half-duplex in Node's fetch.
+    const duplex = body instanceof ReadableStream ? { duplex: "half" } : {};
+    const res = await fetch(new URL(path, APP_URL), { method, headers, body, redirect: "manual", ...duplex } as RequestInit);
     this.store(res);
     return res;
   }

@@ -214,3 +214,48 @@ describe("batches API", () => {
     expect(list.batches).toEqual([]);
   });
 });
+
+describe("corrective actions", () => {
+  it("a missed stage asks for a reheat; a reheat to 74 °C restarts the clock once; a second miss leaves discard", async () => {
+    const t = await newTenant();
+    const cook = await cookOf(t);
+    // Started 5 h ago at 150 °F; at 2.5 h it was still 80 °F: stage 1 (70 °F within 2 h) missed.
+    const { batch } = await started(t, cook, { start: { value: 150, unit: "F", takenAt: minutesAgo(300) } });
+    const miss = await (await cook.request(`/api/v1/batches/${batch.id}/readings`, { json: { clientId: randomUUID(), value: 80, unit: "F", takenAt: minutesAgo(150) } })).json();
+    expect(miss.record.nextStep).toBe("reheat");
+    // FDA Food Code §3-403.11: reheat to 165 °F.
+    const reheat = await (await cook.request(`/api/v1/batches/${batch.id}/readings`, { json: { clientId: randomUUID(), value: 166, unit: "F", kind: "reheat", takenAt: minutesAgo(120) } })).json();
+    expect(reheat.record.outcome).toBe("in-progress");
+    expect(reheat.record.nextStep).toBeNull();
+    const again = await (await cook.request(`/api/v1/batches/${batch.id}/readings`, { json: { clientId: randomUUID(), value: 90, unit: "F", takenAt: minutesAgo(5) } })).json();
+    expect(again.record.nextStep).toBe("discard");
+    const discard = await cook.request(`/api/v1/batches/${batch.id}/actions`, { json: { kind: "discard", clientId: randomUUID(), quantityKg: 12, reason: "missed twice" } });
+    expect(discard.status).toBe(201);
+    const [row] = await db.select().from(batches).where(eq(batches.id, batch.id));
+    expect(row.state).toBe("discarded");
+    expect((await cook.request(`/api/v1/batches/${batch.id}/readings`, { json: { clientId: randomUUID(), value: 40, unit: "F" } })).status).toBe(409);
+  });
+
+  it("moving the batch to an ice bath is recorded once, and the prediction restarts from there", async () => {
+    const t = await newTenant();
+    const cook = await cookOf(t);
+    const { batch } = await started(t, cook, { start: { value: 150, unit: "F", takenAt: minutesAgo(40) } });
+    await cook.request(`/api/v1/batches/${batch.id}/readings`, { json: { clientId: randomUUID(), value: 140, unit: "F", takenAt: minutesAgo(10) } });
+    const before = await (await cook.get("/api/v1/batches?status=active")).json();
+    const action = { kind: "change_method", clientId: randomUUID(), method: "ice-bath-stirred" };
+    const res = await cook.request(`/api/v1/batches/${batch.id}/actions`, { json: action });
+    expect(res.status).toBe(201);
+    expect((await cook.request(`/api/v1/batches/${batch.id}/actions`, { json: action })).status).toBe(200);
+    const { correctiveActions } = await import("~db/schema");
+    const rows = await db.select().from(correctiveActions).where(eq(correctiveActions.batchId, batch.id));
+    expect(rows).toHaveLength(1);
+    expect(rows[0]).toMatchObject({ kind: "change_method", takenBy: t.people.cook.id });
+    const [b] = await db.select().from(batches).where(eq(batches.id, batch.id));
+    expect(b.method).toBe("ice-bath-stirred");
+    const after = await (await cook.get("/api/v1/batches?status=active")).json();
+    const t1 = Date.parse(before.batches[0].prediction.stages[0].reachAt);
+    const t2 = Date.parse(after.batches[0].prediction.stages[0].reachAt);
+    expect(t2).toBeLessThan(t1);
+    await expect(db.execute(sql`delete from corrective_actions where batch_id = ${batch.id}`)).rejects.toMatchObject({ cause: { message: expect.stringMatching(/append-only/) } });
+  });
+});

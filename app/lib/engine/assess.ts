@@ -15,6 +15,12 @@ export type AssessInput = {
   readings: RuleReading[];
   siteUnit: "F" | "C";
   now: number;
+  /**
+   * When the batch moved to other equipment (a corrective action), the model restarts there: from
+   * the last reading before the move, uniform at its temperature, with the new method. `setup` holds
+   * the new method; the rule's clocks are untouched.
+   */
+  movedAt?: number;
 };
 
 export type Assessment = {
@@ -65,9 +71,11 @@ export function assessBatch(input: AssessInput): Assessment {
   // After a counted reheat the food starts afresh, uniform at the reheat temperature.
   const attempt = evaluation.attempts[evaluation.attempts.length - 1];
   const reheat = attempt.reheatReadingId ? sorted.find((r) => r.id === attempt.reheatReadingId) : undefined;
-  const origin = reheat ? reheat.takenAt : batchStartedAt;
-  const physics = reheat ? buildBatchModel({ ...setup, startC: toCelsius(reheat.value, reheat.unit) }) : { model, prior };
-  const since = cooling.filter((r) => r.takenAt > origin || (!reheat && r.takenAt >= origin));
+  const lastBeforeMove = input.movedAt !== undefined ? cooling.filter((r) => r.takenAt <= input.movedAt! && (!reheat || r.takenAt >= reheat.takenAt)).at(-1) : undefined;
+  const restart = lastBeforeMove ?? reheat;
+  const origin = restart ? restart.takenAt : batchStartedAt;
+  const physics = restart ? buildBatchModel({ ...setup, startC: toCelsius(restart.value, restart.unit) }) : { model, prior };
+  const since = cooling.filter((r) => r.takenAt > origin || (!restart && r.takenAt >= origin));
   const byId = new Map(sorted.map((r) => [r.id, r]));
   // A clock that has not started yet (no reading below the upper limit so far) would start, at the
   // earliest, at the last reading at or above it: that gives provisional deadlines to predict against.
