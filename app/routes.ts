@@ -19,6 +19,8 @@ export default [
   route("station", "routes/station.tsx"),
   route("station/batches/new", "routes/station-batch-new.tsx"),
   route("station/batches/:batchId", "routes/station-batch.tsx"),
+  route("station/batches/:batchId/readings", "routes/station.batches.readings.ts"),
+  route("station/photos", "routes/station.photos.ts"),
   layout("routes/shell.tsx", [
     route("account", "routes/account.tsx"),
     route("sites", "routes/sites.tsx"),

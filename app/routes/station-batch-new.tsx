@@ -46,7 +46,7 @@ export async function action({ request }: Route.ActionArgs) {
     lid: f.get("lid") === "true",
     method: f.get("method"),
     equipmentId: equipmentId ? equipmentId : undefined,
-    start: { value: num(f.get("startValue")), unit: site.temperatureUnit },
+    start: { value: num(f.get("startValue")), unit: site.temperatureUnit, takenAt: f.get("startTakenAtIso") || undefined },
   };
   const parsed = StartBatchSchema.safeParse(input);
   if (!parsed.success) {
@@ -76,7 +76,16 @@ export default function StartBatch({ loaderData, actionData }: Route.ComponentPr
       </div>
       <p className="mb-4 text-ink-soft">{t("station.loggedInAs", { name: cook })}</p>
       {Object.keys(errors).length ? <Notice tone="error">{t("forms.fixErrors")}</Notice> : null}
-      <Form method="post" className="grid gap-6 lg:grid-cols-[1fr_auto]">
+      <Form
+        method="post"
+        className="grid gap-6 lg:grid-cols-[1fr_auto]"
+        onSubmit={(e) => {
+          // The tablet's clock and zone are the kitchen's: send the time as an instant.
+          const form = e.currentTarget;
+          const local = (form.elements.namedItem("startTakenAt") as HTMLInputElement | null)?.value;
+          (form.elements.namedItem("startTakenAtIso") as HTMLInputElement).value = local ? new Date(local).toISOString() : "";
+        }}
+      >
         <input type="hidden" name="clientId" value={clientId} />
         <div className="card">
           <SelectField label={t("batch.product")} name="productId" defaultValue={first?.id} options={library.map((p) => ({ value: p.id, label: p.name }))} error={errors.productId} />
@@ -98,6 +107,8 @@ export default function StartBatch({ loaderData, actionData }: Route.ComponentPr
         </div>
         <div className="card flex flex-col items-center gap-4">
           <TemperatureKeypad name="startValue" unit={unit} label={t("batch.startTemperature")} error={errors["start.value"]} />
+          <Field label={t("batch.takenAt")} name="startTakenAt" type="datetime-local" error={errors["start.takenAt"]} hint={t("batch.takenAtHint")} />
+          <input type="hidden" name="startTakenAtIso" />
           <button type="submit" className="btn-primary min-h-16 w-full max-w-sm text-lg" disabled={busy}>
             {t("batch.startSubmit")}
           </button>

@@ -5,7 +5,7 @@ import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { batches, products, readings, sites, users } from "~db/schema";
 import { clock, countdown } from "~/components/batch-card";
 import { Field, Notice } from "~/components/frame";
-import { TemperatureKeypad } from "~/components/temp-keypad";
+import { ReadingForm } from "~/components/reading-form";
 import { useLiveNow } from "~/components/use-live-now";
 import { CoolingChart } from "~/components/cooling-chart";
 import { DepthTimePicture } from "~/components/depth-time-picture";
@@ -16,7 +16,7 @@ import { assess, CorrectiveActionSchema, ReadingSchema, recordReading, takeCorre
 import { db } from "~/server/db.server";
 import { isUuid, notFound } from "~/server/guards.server";
 import { requireStationCook } from "~/server/station-entry.server";
-import { getStationCookId, getStationDevice } from "~/server/station.server";
+import { getStationCookId, getStationDevice, stationAttribution } from "~/server/station.server";
 import type { Route } from "./+types/station-batch";
 
 export const meta: Route.MetaFunction = () => [{ title: "Batch · Chillwright" }];
@@ -65,6 +65,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     chart: { record, predicted, band, grid, stages: chartStages, dangerZone: { lowC: rule.stages.at(-1)!.to.c, highC: rule.stages[0].from.c } },
     now,
     cookActive: !!getStationCookId(request, device),
+    attribution: getStationCookId(request, device) ? stationAttribution(request) : null,
     unit: row.site.temperatureUnit,
     timeZone: row.site.timeZone,
     clientId: randomUUID(),
@@ -91,6 +92,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       who: who ?? (r.apiTokenId ? "API" : "—"),
       corrects: r.correctsReadingId,
       reason: r.correctionReason,
+      photoId: r.photoId,
     })),
   };
 }
@@ -144,7 +146,7 @@ const statusTone = { met: "text-pine", missed: "text-ember", "in-progress": "tex
 
 export default function StationBatch({ loaderData, actionData }: Route.ComponentProps) {
   const { t, i18n } = useTranslation();
-  const { batch, record, prediction, readings: list, unit, timeZone, cookActive, clientId, chart } = loaderData;
+  const { batch, record, prediction, readings: list, unit, timeZone, cookActive, clientId, chart, attribution } = loaderData;
   const now = useLiveNow(loaderData.now);
   const busy = useNavigation().state !== "idle";
   const errors: Record<string, string> = actionData?.errors ?? {};
@@ -234,18 +236,11 @@ export default function StationBatch({ loaderData, actionData }: Route.Component
             {t("batch.logReading")}
           </h2>
           {batch.state !== "cooling" ? <p>{t("batch.ended")}</p> : null}
-          {batch.state === "cooling" && cookActive && record.nextStep !== "discard" ? (
-            <Form method="post" key={clientId} className="flex flex-col items-center gap-3">
-              <input type="hidden" name="clientId" value={clientId} />
-              <input type="hidden" name="intent" value={record.nextStep === "reheat" ? "reheat" : "reading"} />
+          {batch.state === "cooling" && cookActive && attribution && record.nextStep !== "discard" ? (
+            <>
               {record.nextStep === "reheat" ? <Notice tone="warn">{t("batch.reheatHint")}</Notice> : null}
-              <TemperatureKeypad name="value" unit={unit} label={record.nextStep === "reheat" ? t("batch.reheatTemperature") : t("batch.coreTemperature")} error={errors.value} />
-              <Field label={t("batch.takenAt")} name="takenAt" type="datetime-local" error={errors.takenAt} hint={t("batch.takenAtHint")} />
-              <Field label={t("batch.probe")} name="probe" autoComplete="off" />
-              <button type="submit" className="btn-primary min-h-16 w-full text-lg" disabled={busy}>
-                {record.nextStep === "reheat" ? t("batch.saveReheat") : t("batch.save")}
-              </button>
-            </Form>
+              <ReadingForm batchId={batch.id} unit={unit} attribution={attribution} kind={record.nextStep === "reheat" ? "reheat" : "reading"} />
+            </>
           ) : null}
           {batch.state === "cooling" && cookActive && record.nextStep ? (
             <Form method="post" className="mt-6 w-full border-t border-line pt-4">
@@ -333,6 +328,11 @@ export default function StationBatch({ loaderData, actionData }: Route.Component
                   {r.late ? <span className="mr-2 rounded bg-amber-light px-1 text-amber">{t("batch.late")}</span> : null}
                   {r.kind === "reheat" ? <span className="mr-2">{t("batch.reheat")}</span> : null}
                   {r.corrects ? t("batch.correction", { reason: r.reason }) : null}
+                  {r.photoId ? (
+                    <a href={`/photos/${r.photoId}`} target="_blank" rel="noreferrer">
+                      <img src={`/photos/${r.photoId}/thumb`} alt={t("outbox.photo")} className="inline-block h-14 rounded-lg" />
+                    </a>
+                  ) : null}
                 </td>
               </tr>
             ))}

@@ -6,6 +6,7 @@ import { z } from "zod";
 import { sites, stationDevices } from "~db/schema";
 import { BatchCard } from "~/components/batch-card";
 import { useLiveNow } from "~/components/use-live-now";
+import { PendingNotice, usePending } from "~/components/reading-form";
 import { listActive } from "~/server/batches.server";
 import { cardFor } from "~/server/station-entry.server";
 import { Notice } from "~/components/frame";
@@ -96,6 +97,7 @@ export default function Station({ loaderData, actionData }: Route.ComponentProps
   const { t } = useTranslation();
   const { station, people, cook, cards, timeZone, next } = loaderData;
   const now = useLiveNow(loaderData.now);
+  const pending = usePending();
   const [chosen, setChosen] = useState<string | null>(actionData?.userId || null);
   const [retiring, setRetiring] = useState(actionData?.intent === "retire");
 
@@ -184,6 +186,9 @@ export default function Station({ loaderData, actionData }: Route.ComponentProps
             </button>
           </section>
         )}
+        <div className="mt-6">
+          <PendingNotice count={pending.length} />
+        </div>
         {cards.length > 0 ? (
           <section className="mt-8" aria-labelledby="active">
             <h2 id="active" className="mb-3 text-xl font-extrabold">

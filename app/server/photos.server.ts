@@ -7,6 +7,7 @@ import { recordAudit } from "./audit.server";
 import type { Entrant } from "./batches.server";
 import { db } from "./db.server";
 import { env } from "./env.server";
+import { getStationDevice } from "./station.server";
 import { getUser, isUuid } from "./guards.server";
 import { storageFor, type Storage } from "./storage.server";
 
@@ -75,7 +76,7 @@ export async function readPhotoUpload(request: Request) {
   if (!/^multipart\/form-data/i.test(type)) {
     const bytes = await readBody(request, PHOTO_LIMITS.bytes);
     if (!bytes.length) throw refused("Send the photo: a multipart form with the field 'photo', or the image itself as the body.");
-    return { bytes, fields: { siteId: querySiteId } };
+    return { bytes, fields: { siteId: querySiteId } as Record<string, string | undefined> };
   }
   const body = await readBody(request, PHOTO_LIMITS.bytes + FORM_OVERHEAD);
   let form: FormData;
@@ -87,7 +88,11 @@ export async function readPhotoUpload(request: Request) {
   const file = form.get("photo");
   if (!(file instanceof File) || file.size === 0) throw refused("Attach the photo as the form field 'photo'.");
   if (file.size > PHOTO_LIMITS.bytes) throw tooLarge();
-  return { bytes: Buffer.from(await file.arrayBuffer()), fields: { siteId: form.get("siteId") || querySiteId } };
+  // The other text fields travel beside the photo (the station sends the entry's attribution and time).
+  const fields: Record<string, string | undefined> = { siteId: querySiteId };
+  for (const [k, v] of form) if (typeof v === "string") fields[k] = v;
+  fields.siteId = fields.siteId || querySiteId;
+  return { bytes: Buffer.from(await file.arrayBuffer()), fields };
 }
 
 export type ProcessedPhoto = {
@@ -180,7 +185,10 @@ export async function findPhoto(id: string | undefined): Promise<PhotoRecord | n
  */
 export async function canSeePhoto(request: Request, photo: PhotoRecord) {
   const user = await getUser(request);
-  return !!user && user.memberships.some((m) => m.siteId === photo.siteId);
+  if (user?.memberships.some((m) => m.siteId === photo.siteId)) return true;
+  // A station tablet of the same site shows the photos its cooks took.
+  const device = await getStationDevice(request);
+  return device?.siteId === photo.siteId;
 }
 
 /** The stored WebP of one size, or null when the storage has lost it. */

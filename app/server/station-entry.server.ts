@@ -1,10 +1,10 @@
 import { eq } from "drizzle-orm";
-import { redirect } from "react-router";
+import { data, redirect } from "react-router";
 import { sites } from "~db/schema";
 import type { Assessment } from "~/lib/engine/assess";
 import type { Entrant } from "./batches.server";
 import { db } from "./db.server";
-import { getStationCookId, getStationDevice, listStationPeople } from "./station.server";
+import { getStationCookId, getStationDevice, listStationPeople, readAttribution } from "./station.server";
 
 /** The station device, its site, and the cook whose PIN is active; anything less goes back to the station home. */
 export async function requireStationCook(request: Request) {
@@ -57,4 +57,21 @@ export function cardFor(
     outcome: a.evaluation.outcome,
     nextStep: a.evaluation.nextStep,
   };
+}
+
+/**
+ * An entry saved on the tablet while the network was down carries the cook's attribution as it was
+ * when the entry was made (the signed station-cook value): it is accepted later if its signature is
+ * good, it names this device, and the entry was taken while it was valid. Sent within a day.
+ */
+export async function requireStationEntrant(request: Request, attribution: unknown, takenAt: number) {
+  const device = await getStationDevice(request);
+  if (!device) throw data({ error: "This device is not a station" }, { status: 401 });
+  const cookId = typeof attribution === "string" ? readAttribution(attribution, device, takenAt) : null;
+  if (!cookId) throw data({ errors: { attribution: "The PIN for this entry has expired: enter your PIN again" } }, { status: 401 });
+  const people = await listStationPeople(device.siteId);
+  if (!people.some((p) => p.id === cookId)) throw data({ errors: { attribution: "That person cannot make entries here" } }, { status: 403 });
+  const [site] = await db.select().from(sites).where(eq(sites.id, device.siteId));
+  const entrant: Entrant = { actor: { kind: "station", userId: cookId, deviceId: device.id }, userId: cookId, source: "station", stationDeviceId: device.id };
+  return { device, site, entrant };
 }

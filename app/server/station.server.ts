@@ -133,11 +133,19 @@ export function stationCookCookie(deviceId: string, userId: string) {
 
 export function getStationCookId(request: Request, device: StationDevice) {
   const raw = readCookie(request, STATION_COOK_COOKIE);
-  if (!raw) return null;
+  return raw ? readAttribution(raw, device, Date.now()) : null;
+}
+
+/** The station-cook value, read as of a moment: its user id when signed for this device and valid then. */
+export function readAttribution(raw: string, device: StationDevice, at: number) {
   const parts = raw.split(".");
   if (parts.length !== 4) return null;
   const [deviceId, userId, expires, mac] = parts;
   if (!sameHash(mac, sign(`${deviceId}.${userId}.${expires}`))) return null;
-  if (deviceId !== device.id || Number(expires) < Date.now()) return null;
+  // Entries up to a day old may arrive after a network outage; each must be taken within the PIN's window.
+  if (deviceId !== device.id || Number(expires) < at || at < Date.now() - 24 * 3600_000) return null;
   return userId;
 }
+
+/** The raw station-cook value, for the page to keep with entries it saves while offline. */
+export const stationAttribution = (request: Request) => readCookie(request, STATION_COOK_COOKIE);

@@ -188,6 +188,15 @@ export const en = {
     depth: "Depth from the bottom (mm)",
     summary: "From {start} to {end}: warmest {warmest}, coldest {coldest}, over {depth} of food",
   },
+  outbox: {
+    pending_one: "{{count}} entry is saved on this tablet and not sent yet: it goes as soon as the network is back.",
+    pending_other: "{{count}} entries are saved on this tablet and not sent yet: they go as soon as the network is back.",
+    sent: "Reading saved.",
+    enterTemperature: "Enter a temperature",
+    photo: "Photo of the probe",
+    photoChosen: "Photo: {{name}}",
+    photoHint: "Add a photo of the probe: tap to use the camera, or drop a picture here",
+  },
   settings: {
     title: "Site settings",
     name: "Site name",

@@ -190,6 +190,15 @@ export const es: Messages = {
     depth: "Altura desde el fondo (mm)",
     summary: "De {start} a {end}: máxima {warmest}, mínima {coldest}, en {depth} de alimento",
   },
+  outbox: {
+    pending_one: "{{count}} entrada está guardada en esta tableta y aún no se ha enviado: se enviará en cuanto vuelva la red.",
+    pending_other: "{{count}} entradas están guardadas en esta tableta y aún no se han enviado: se enviarán en cuanto vuelva la red.",
+    sent: "Lectura guardada.",
+    enterTemperature: "Introduce una temperatura",
+    photo: "Foto del termómetro",
+    photoChosen: "Foto: {{name}}",
+    photoHint: "Añade una foto del termómetro: toca para usar la cámara o suelta aquí una imagen",
+  },
   settings: {
     title: "Ajustes del local",
     name: "Nombre del local",

@@ -1,0 +1,14 @@
+import { data } from "react-router";
+import { processPhoto, readPhotoUpload, savePhoto } from "~/server/photos.server";
+import { requireStationEntrant } from "~/server/station-entry.server";
+import type { Route } from "./+types/station.photos";
+
+// POST /station/photos: a probe photo from the station tablet (multipart `photo`, with the entry's
+// attribution and the time it was taken).
+export async function action({ request }: Route.ActionArgs) {
+  const upload = await readPhotoUpload(request);
+  const takenAt = typeof upload.fields.takenAt === "string" ? Date.parse(upload.fields.takenAt) : Date.now();
+  const { site, entrant } = await requireStationEntrant(request, upload.fields.attribution, takenAt);
+  const photo = await processPhoto(upload.bytes);
+  return data(await savePhoto(site, entrant, photo), { status: 201 });
+}
