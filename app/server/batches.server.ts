@@ -348,8 +348,33 @@ async function settleState(site: Site, batchId: string, now: number) {
       .set({ state, endedAt: state === "cooling" ? null : new Date(now) })
       .where(and(eq(batches.id, batchId), ne(batches.state, state), ne(batches.state, "discarded")))
       .returning({ id: batches.id });
-    if (b) await recordAudit(tx, { actor: { kind: "system", label: "rule evaluation" }, organisationId: site.organisationId, siteId: site.id, action: `batch.${state}`, entity: "batch", entityId: batchId });
+    if (!b) return;
+    await recordAudit(tx, { actor: { kind: "system", label: "rule evaluation" }, organisationId: site.organisationId, siteId: site.id, action: `batch.${state}`, entity: "batch", entityId: batchId });
+    if (state !== "cooling") await learnFromBatch(tx, site, batchId, a);
   });
+}
+
+/**
+ * A batch that ended teaches its equipment: the surface factor fitted on its readings joins the
+ * equipment's running mean and spread of ln s (Welford's online algorithm), which becomes the prior of
+ * the next batch there. Batches moved mid-way or fitted on fewer than three readings teach nothing.
+ */
+async function learnFromBatch(tx: Parameters<Parameters<typeof db.transaction>[0]>[0], site: Site, batchId: string, a: Assessment) {
+  const [row] = await tx.select({ equipmentId: batches.equipmentId, method: batches.method }).from(batches).where(eq(batches.id, batchId));
+  if (!row?.equipmentId || a.prediction.calibration.readingsUsed < 3) return;
+  const moved = await tx.select({ id: correctiveActions.id }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method")));
+  if (moved.length) return;
+  const [eqp] = await tx.select().from(equipment).where(and(eq(equipment.id, row.equipmentId), eq(equipment.siteId, site.id)));
+  if (!eqp || eqp.method !== row.method) return;
+  const x = Math.log(a.prediction.calibration.s);
+  const n = eqp.learnedBatches + 1;
+  const mean0 = eqp.learnedLnS ?? 0;
+  const mean = eqp.learnedBatches === 0 ? x : mean0 + (x - mean0) / n;
+  // The spread kept is the sample sd, floored by the batch's own fit uncertainty.
+  const m2 = (eqp.learnedSd ?? 0) ** 2 * Math.max(0, eqp.learnedBatches - 1) + (x - mean0) * (x - mean);
+  const sd = Math.max(Math.sqrt(a.prediction.calibration.cov[0][0]), n > 1 ? Math.sqrt(m2 / (n - 1)) : 0.3);
+  await tx.update(equipment).set({ learnedLnS: mean, learnedSd: sd, learnedBatches: n }).where(eq(equipment.id, eqp.id));
+  await recordAudit(tx, { actor: { kind: "system", label: "equipment learning" }, organisationId: site.organisationId, siteId: site.id, action: "equipment.learned", entity: "equipment", entityId: eqp.id, data: { batchId, lnS: x, mean, sd, batches: n } });
 }
 
 /** Active batches of some sites, each with its current assessment (for the API and the live view). */

@@ -1,7 +1,7 @@
 import { randomUUID } from "node:crypto";
 import { eq, sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
-import { batches, readings } from "~db/schema";
+import { batches, equipment, readings } from "~db/schema";
 import { Client, signedIn } from "../helpers/client";
 import { db, newTenant } from "../helpers/db";
 
@@ -168,6 +168,11 @@ describe("batches API", () => {
     }
     const [row] = await db.select().from(batches).where(eq(batches.id, batch.id));
     expect(row.state).toBe("cooled");
+    // The walk-in learned from it: one batch, a finite surface factor that the next batch uses as its prior.
+    const [walkIn] = await db.select().from(equipment).where(eq(equipment.id, t.walkIn.id));
+    expect(walkIn.learnedBatches).toBe(1);
+    expect(Number.isFinite(walkIn.learnedLnS)).toBe(true);
+    expect(walkIn.learnedSd!).toBeGreaterThan(0);
     const after = await cook.request(`/api/v1/batches/${batch.id}/readings`, { json: { clientId: randomUUID(), value: 40, unit: "F" } });
     expect(after.status).toBe(409);
   });
