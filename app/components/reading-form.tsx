@@ -43,7 +43,20 @@ export function PendingNotice({ count }: { count: number }) {
  * A reading as the cook enters it: the value on the keypad, the time (now unless changed), the probe
  * and a photo (camera on a tablet, or dropped in). It is saved on the tablet first, then sent.
  */
-export function ReadingForm({ batchId, unit, attribution, kind }: { batchId: string; unit: "F" | "C"; attribution: string; kind: "reading" | "reheat" }) {
+export function ReadingForm({
+  batchId,
+  unit,
+  attribution,
+  kind,
+  corrects,
+}: {
+  batchId: string;
+  unit: "F" | "C";
+  attribution: string;
+  kind: "reading" | "reheat";
+  /** When set, the entry corrects this reading (with a reason, at its time). */
+  corrects?: { readingId: string; takenAt: number; label: string };
+}) {
   const { t } = useTranslation();
   const revalidator = useRevalidator();
   const [formKey, setFormKey] = useState(newId);
@@ -51,6 +64,7 @@ export function ReadingForm({ batchId, unit, attribution, kind }: { batchId: str
   const [kept, setKept] = useState("");
   const [photo, setPhoto] = useState<File | null>(null);
   const [saved, setSaved] = useState<"sent" | "queued" | null>(null);
+  const [warnings, setWarnings] = useState<string[]>([]);
   const pending = usePending(batchId);
   const formRef = useRef<HTMLFormElement>(null);
   const { getRootProps, getInputProps, isDragActive } = useDropzone({
@@ -73,7 +87,15 @@ export function ReadingForm({ batchId, unit, attribution, kind }: { batchId: str
       clientId: formKey,
       batchId,
       savedAt: Date.now(),
-      body: { clientId: formKey, value, takenAt: (when ? new Date(when) : new Date()).toISOString(), probe: String(fd.get("probe") ?? "") || undefined, kind, attribution },
+      body: {
+        clientId: formKey,
+        value,
+        takenAt: corrects ? new Date(corrects.takenAt).toISOString() : (when ? new Date(when) : new Date()).toISOString(),
+        probe: String(fd.get("probe") ?? "") || undefined,
+        kind,
+        attribution,
+        corrects: corrects ? { readingId: corrects.readingId, reason: String(fd.get("reason") ?? "") } : undefined,
+      },
       photo: photo ?? undefined,
     };
     await saveToOutbox(entry);
@@ -81,7 +103,8 @@ export function ReadingForm({ batchId, unit, attribution, kind }: { batchId: str
     setPhoto(null);
     setKept("");
     setFormKey(newId());
-    const rejected = await flushOutbox();
+    const { rejected, warnings } = await flushOutbox();
+    setWarnings(warnings.get(entry.clientId) ?? []);
     const mine = rejected.find((r) => r.entry.clientId === entry.clientId);
     if (mine) {
       // Refused: nothing was stored; the value comes back to the field with the reason.
@@ -107,9 +130,17 @@ export function ReadingForm({ batchId, unit, attribution, kind }: { batchId: str
     <form ref={formRef} onSubmit={submit} className="flex w-full flex-col items-center gap-3" key={formKey}>
       <PendingNotice count={pending.length} />
       {saved === "sent" ? <Notice tone="ok">{t("outbox.sent")}</Notice> : null}
+      {warnings.includes("risingTemperature") ? <Notice tone="warn">{t("batch.rising")}</Notice> : null}
       {errors.attribution || errors.request || errors.batch ? <Notice tone="error">{errors.attribution ?? errors.request ?? errors.batch}</Notice> : null}
       <TemperatureKeypad name="value" unit={unit} defaultValue={kept} label={kind === "reheat" ? t("batch.reheatTemperature") : t("batch.coreTemperature")} error={errors.value} />
-      <Field label={t("batch.takenAt")} name="takenAt" type="datetime-local" error={errors.takenAt} hint={t("batch.takenAtHint")} />
+      {corrects ? (
+        <>
+          <p className="w-full font-bold">{t("batch.correcting", { reading: corrects.label })}</p>
+          <Field label={t("batch.correctionReason")} name="reason" required error={errors["corrects.reason"]} />
+        </>
+      ) : (
+        <Field label={t("batch.takenAt")} name="takenAt" type="datetime-local" error={errors.takenAt} hint={t("batch.takenAtHint")} />
+      )}
       <Field label={t("batch.probe")} name="probe" autoComplete="off" />
       <div {...getRootProps({ className: `w-full cursor-pointer rounded-xl border-2 border-dashed px-4 py-4 text-center ${isDragActive ? "border-glacier bg-glacier-light" : "border-line bg-frost"}` })}>
         <input {...getInputProps({ capture: "environment", "aria-label": t("outbox.photo") } as Parameters<typeof getInputProps>[0])} />

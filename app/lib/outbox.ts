@@ -8,11 +8,21 @@ export type OutboxEntry = {
   clientId: string;
   batchId: string;
   savedAt: number;
-  body: { clientId: string; value: number; takenAt: string; probe?: string; kind: "reading" | "reheat"; attribution: string; photoId?: string };
+  body: {
+    clientId: string;
+    value: number;
+    takenAt: string;
+    probe?: string;
+    kind: "reading" | "reheat";
+    attribution: string;
+    photoId?: string;
+    corrects?: { readingId: string; reason: string };
+  };
   photo?: Blob;
 };
 
 export type Rejection = { entry: OutboxEntry; status: number; errors: Record<string, string> };
+export type FlushResult = { rejected: Rejection[]; warnings: Map<string, string[]> };
 
 const KEY = "entries";
 let store: ReturnType<typeof createStore> | null = null;
@@ -46,12 +56,13 @@ async function remove(clientId: string) {
   await write((await listOutbox()).filter((e) => e.clientId !== clientId));
 }
 
-let flushing: Promise<Rejection[]> | null = null;
+let flushing: Promise<FlushResult> | null = null;
 
 /** Sends what is waiting, oldest first; stops at the first network failure and keeps the rest. */
-export function flushOutbox(): Promise<Rejection[]> {
+export function flushOutbox(): Promise<FlushResult> {
   flushing ??= (async () => {
     const rejected: Rejection[] = [];
+    const warnings = new Map<string, string[]>();
     try {
       for (const entry of await listOutbox()) {
         try {
@@ -76,6 +87,8 @@ export function flushOutbox(): Promise<Rejection[]> {
             body: JSON.stringify(entry.body),
           });
           if (res.ok) {
+            const body = (await res.json().catch(() => ({}))) as { warnings?: string[] };
+            if (body.warnings?.length) warnings.set(entry.clientId, body.warnings);
             await remove(entry.clientId);
           } else if (res.status >= 400 && res.status < 500) {
             const body = (await res.json().catch(() => ({}))) as { errors?: Record<string, string>; error?: string };
@@ -89,7 +102,7 @@ export function flushOutbox(): Promise<Rejection[]> {
     } finally {
       flushing = null;
     }
-    return rejected;
+    return { rejected, warnings };
   })();
   return flushing;
 }

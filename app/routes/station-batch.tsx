@@ -1,5 +1,6 @@
 import { and, asc, eq } from "drizzle-orm";
 import { randomUUID } from "node:crypto";
+import { useState } from "react";
 import { useTranslation } from "react-i18next";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { batches, products, readings, sites, users } from "~db/schema";
@@ -148,6 +149,7 @@ export default function StationBatch({ loaderData, actionData }: Route.Component
   const { t, i18n } = useTranslation();
   const { batch, record, prediction, readings: list, unit, timeZone, cookActive, clientId, chart, attribution } = loaderData;
   const now = useLiveNow(loaderData.now);
+  const [correcting, setCorrecting] = useState<{ readingId: string; takenAt: number; label: string } | null>(null);
   const busy = useNavigation().state !== "idle";
   const errors: Record<string, string> = actionData?.errors ?? {};
   const warnings = [...loaderData.warnings, ...(actionData?.warnings ?? [])];
@@ -262,6 +264,15 @@ export default function StationBatch({ loaderData, actionData }: Route.Component
         </section>
       </div>
 
+      {correcting && attribution ? (
+        <section className="card mt-6 max-w-md" aria-label={t("batch.correct")}>
+          <ReadingForm key={correcting.readingId} batchId={batch.id} unit={unit} attribution={attribution} kind="reading" corrects={correcting} />
+          <button type="button" className="btn-quiet mt-3 w-full" onClick={() => setCorrecting(null)}>
+            {t("station.back")}
+          </button>
+        </section>
+      ) : null}
+
       <section className="card mt-6" aria-labelledby="curve">
         <h2 id="curve" className="mb-3 text-lg font-extrabold">
           {t("chart.title")}
@@ -314,6 +325,7 @@ export default function StationBatch({ loaderData, actionData }: Route.Component
               <th className="py-2">{t("batch.reading")}</th>
               <th className="py-2">{t("batch.by")}</th>
               <th className="py-2">{t("batch.notes")}</th>
+              <th className="py-2" />
             </tr>
           </thead>
           <tbody>
@@ -332,6 +344,17 @@ export default function StationBatch({ loaderData, actionData }: Route.Component
                     <a href={`/photos/${r.photoId}`} target="_blank" rel="noreferrer">
                       <img src={`/photos/${r.photoId}/thumb`} alt={t("outbox.photo")} className="inline-block h-14 rounded-lg" />
                     </a>
+                  ) : null}
+                </td>
+                <td className="py-2 text-right">
+                  {cookActive && attribution && !r.corrects ? (
+                    <button
+                      type="button"
+                      className="btn-quiet min-h-12 px-3 text-sm"
+                      onClick={() => setCorrecting({ readingId: r.id, takenAt: r.takenAt, label: `${r.value} °${r.unit} · ${clock(r.takenAt, timeZone, i18n.language)}` })}
+                    >
+                      {t("batch.correct")}
+                    </button>
                   ) : null}
                 </td>
               </tr>
