@@ -88,6 +88,13 @@ test("a cook starts a batch on the station, logs a reading with the keypad and s
   await expect(page.getByRole("cell", { name: "144 °F" })).toBeVisible();
   await page.screenshot({ path: `${SCREENS}/batch-page.png`, fullPage: true });
 
+  // A deep pan of chili in a walk-in will not make it; moving it to a stirred ice bath changes the verdict.
+  const verdict = page.getByTestId("verdict");
+  const before = (await verdict.textContent())!;
+  await page.getByRole("listitem").filter({ hasText: "Stirred ice-water bath" }).getByRole("button", { name: "Do this now" }).click();
+  await expect(verdict).not.toHaveText(before);
+  await page.screenshot({ path: `${SCREENS}/batch-after-ice-bath.png`, fullPage: true });
+
   await page.getByRole("link", { name: /Back/ }).click();
   const card = page.getByTestId("batch-card").filter({ hasText: "CH-1201-A" });
   await expect(card).toBeVisible();
