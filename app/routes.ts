@@ -28,6 +28,7 @@ export default [
       index("routes/site-home.tsx"),
       route("settings", "routes/site-settings.tsx"),
       route("team", "routes/site-team.tsx"),
+      route("library", "routes/site-library.tsx"),
       route("station-setup", "routes/station-setup.tsx"),
       route("api-tokens", "routes/site-api-tokens.tsx"),
     ]),

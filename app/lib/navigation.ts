@@ -1,6 +1,6 @@
 export type Role = "cook" | "manager" | "qa" | "admin";
 
-export type NavItem = { key: "home" | "team" | "settings" | "station" | "sites" | "account"; to: string };
+export type NavItem = { key: "home" | "team" | "library" | "settings" | "station" | "sites" | "account"; to: string };
 
 /** The shell's navigation for a role at a site: each role sees what it works with. */
 export function navigationFor(role: Role | null, siteId: string | null): NavItem[] {
@@ -9,6 +9,7 @@ export function navigationFor(role: Role | null, siteId: string | null): NavItem
     items.push({ key: "home", to: `/sites/${siteId}` });
     if (role === "manager" || role === "admin") {
       items.push({ key: "team", to: `/sites/${siteId}/team` });
+      items.push({ key: "library", to: `/sites/${siteId}/library` });
       items.push({ key: "settings", to: `/sites/${siteId}/settings` });
       items.push({ key: "station", to: `/sites/${siteId}/station-setup` });
     }

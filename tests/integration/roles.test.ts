@@ -10,6 +10,7 @@ const pages: [string, Expect][] = [
   ["/sites/:site", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
   ["/sites/:site/team", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites/:site/settings", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
+  ["/sites/:site/library", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites/:site/station-setup", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites/:site/api-tokens", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
@@ -24,6 +25,8 @@ const mutations: [string, (site: string) => Record<string, string>, Expect][] = 
     { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 },
   ],
   ["/sites/:site/team", () => ({ intent: "invite", email: `x-${Math.random().toString(36).slice(2)}@tenant.example`, name: "New Person", role: "qa" }), { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
+  // Saved library changes redirect back to the library (post/redirect/get).
+  ["/sites/:site/library", () => ({ intent: "addEquipment", name: `Reach-in ${Math.random().toString(36).slice(2, 8)}`, method: "reach-in" }), { anonymous: 302, cook: 403, manager: 302, qa: 403, admin: 302 }],
   ["/sites/:site/api-tokens", () => ({ intent: "create", name: "gateway" }), { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites", () => ({ name: "Annex", temperatureUnit: "F", timeZone: "America/Chicago", ruleSetCode: "fda-3-501.14-a" }), { anonymous: 302, cook: 403, manager: 403, qa: 403, admin: 302 }],
 ];
@@ -67,7 +70,7 @@ describe("role × route matrix", () => {
     };
     expect(await nav("cook")).toEqual(["Today", "My account"]);
     expect(await nav("qa")).toEqual(["Today", "My account"]);
-    expect(await nav("manager")).toEqual(["Today", "Team", "Site settings", "Set up station", "My account"]);
-    expect(await nav("admin")).toEqual(["Today", "Team", "Site settings", "Set up station", "Sites", "My account"]);
+    expect(await nav("manager")).toEqual(["Today", "Team", "Library", "Site settings", "Set up station", "My account"]);
+    expect(await nav("admin")).toEqual(["Today", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"]);
   });
 });

@@ -7,11 +7,11 @@ describe("navigation by role", () => {
     expect(keys("cook")).toEqual(["home", "account"]);
     expect(keys("qa")).toEqual(["home", "account"]);
   });
-  it("managers also run the team, the settings and the stations", () => {
-    expect(keys("manager")).toEqual(["home", "team", "settings", "station", "account"]);
+  it("managers also run the team, the library, the settings and the stations", () => {
+    expect(keys("manager")).toEqual(["home", "team", "library", "settings", "station", "account"]);
   });
   it("administrators also manage the organisation's sites", () => {
-    expect(keys("admin")).toEqual(["home", "team", "settings", "station", "sites", "account"]);
+    expect(keys("admin")).toEqual(["home", "team", "library", "settings", "station", "sites", "account"]);
   });
   it("someone with no site sees only their account", () => {
     expect(navigationFor(null, null).map((i) => i.key)).toEqual(["account"]);
