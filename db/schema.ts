@@ -258,6 +258,8 @@ export const batches = pgTable(
       .notNull()
       .references(() => products.id),
     lotCode: text().notNull(),
+    // The product's composition when the batch started: a later edit of the recipe does not rewrite it.
+    composition: jsonb().$type<Record<string, number>>(),
     quantityKg: doublePrecision(),
     panSize: text().notNull(),
     panDepthMm: integer().notNull(),

@@ -128,6 +128,7 @@ export async function startBatch(site: Site, who: Entrant, input: StartBatchInpu
         clientId: input.clientId,
         productId: input.productId,
         lotCode: input.lotCode,
+        composition: product!.composition,
         quantityKg: input.quantityKg ?? null,
         panSize: input.pan.size,
         panDepthMm: input.pan.depthMm,
@@ -315,7 +316,7 @@ function assessRows(
   const counted = effectiveReadings(rows);
   const start = counted[0];
   const startC = start ? start.valueC : 60;
-  const composition = CompositionSchema.parse(product.composition);
+  const composition = CompositionSchema.parse(batch.composition ?? product.composition);
   const food = averageProperties(composition, { fromC: Math.max(startC, 5), toC: 3 });
   return assessBatch({
     ruleSet: getRuleSet(batch.ruleSetCode)!,

@@ -1,7 +1,7 @@
 import { randomUUID } from "node:crypto";
 import { eq, sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
-import { batches, equipment, readings } from "~db/schema";
+import { batches, equipment, products, readings } from "~db/schema";
 import { Client, signedIn } from "../helpers/client";
 import { db, newTenant } from "../helpers/db";
 
@@ -45,6 +45,11 @@ describe("batches API", () => {
     expect((await again.json()).batch.id).toBe(json.batch.id);
     const rows = await db.select().from(batches).where(eq(batches.siteId, t.site.id));
     expect(rows).toHaveLength(1);
+    // The batch keeps the recipe as it was: a later edit of the product does not rewrite its record.
+    expect(rows[0].composition).toEqual(t.product.composition);
+    await db.update(products).set({ composition: { water: 50, protein: 50 } }).where(eq(products.id, t.product.id));
+    const [kept] = await db.select().from(batches).where(eq(batches.id, json.batch.id));
+    expect(kept.composition).toEqual(t.product.composition);
     // The start reading is stored as entered and in °C.
     const [start] = await db.select().from(readings).where(eq(readings.batchId, json.batch.id));
     expect(start).toMatchObject({ valueEntered: 150, unitEntered: "F", enteredBy: t.people.cook.id, source: "web" });
