@@ -1,5 +1,6 @@
 import { data } from "react-router";
 import { runPredictRequest } from "~/lib/engine/request";
+import { readJson } from "~/server/api-batches.server";
 import { requireApiCaller } from "~/server/api-tokens.server";
 import type { Route } from "./+types/api.v1.predict";
 
@@ -7,12 +8,7 @@ import type { Route } from "./+types/api.v1.predict";
 export async function action({ request }: Route.ActionArgs) {
   await requireApiCaller(request);
   if (request.method !== "POST") return data({ error: "Use POST" }, { status: 405 });
-  let body: unknown;
-  try {
-    body = await request.json();
-  } catch {
-    return data({ errors: { request: "The body must be one JSON object (Content-Type: application/json)." } }, { status: 400 });
-  }
+  const body = await readJson(request);
   const result = runPredictRequest(body);
   if (!result.ok) return data({ errors: result.errors }, { status: 400 });
   return data(result.response);

@@ -15,9 +15,14 @@ export function apiErrors(error: z.ZodError) {
   return out;
 }
 
+/** A JSON body of at most 1 MB (the API's requests are a few kilobytes). */
 export async function readJson(request: Request) {
+  const declared = Number(request.headers.get("content-length") ?? 0);
+  if (declared > 1_000_000) throw data({ errors: { request: "The body is larger than 1 MB." } }, { status: 413 });
   try {
-    return await request.json();
+    const text = await request.text();
+    if (text.length > 1_000_000) throw new RangeError("too large");
+    return JSON.parse(text);
   } catch {
     throw data({ errors: { request: "The body must be one JSON object (Content-Type: application/json)." } }, { status: 400 });
   }

@@ -84,6 +84,12 @@ describe("the predict request", () => {
     expect(r.response.evaluation!.outcome).toBe("passed");
   });
 
+  it("refuses requests that would answer more than 20 000 temperatures", () => {
+    const r = runPredictRequest({ ...example, timesS: Array.from({ length: 5000 }, (_, i) => i * 10), profilePoints: 400 });
+    expect(r.ok).toBe(false);
+    if (!r.ok) expect(r.errors.profilePoints).toMatch(/at most 20 000/);
+  });
+
   it("bad input gets one message per field", () => {
     const r = runPredictRequest({ shape: "cube", timesS: [] });
     expect(r.ok).toBe(false);

@@ -69,6 +69,8 @@ export const PredictRequestSchema = z
   .superRefine((r, ctx) => {
     if (Array.isArray(r.initialC) && r.shape !== "slab") ctx.addIssue({ code: "custom", path: ["initialC"], message: "an initial profile is for slabs only" });
     if (r.deadlinesS && r.deadlinesS.length !== r.targetsC.length) ctx.addIssue({ code: "custom", path: ["deadlinesS"], message: "give one deadline (or null) per target" });
+    // One request answers at most 20 000 temperatures: enough for any picture, and bounded work.
+    if (r.timesS.length * (r.profilePoints ?? 3) > 20_000) ctx.addIssue({ code: "custom", path: ["profilePoints"], message: "timesS × profilePoints must be at most 20 000" });
   });
 
 export type PredictRequest = z.input<typeof PredictRequestSchema>;
