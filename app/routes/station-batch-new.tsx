@@ -78,7 +78,7 @@ export default function StartBatch({ loaderData, actionData }: Route.ComponentPr
       {Object.keys(errors).length ? <Notice tone="error">{t("forms.fixErrors")}</Notice> : null}
       <Form
         method="post"
-        className="grid gap-6 lg:grid-cols-[1fr_auto]"
+        className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_26rem]"
         onSubmit={(e) => {
           // The tablet's clock and zone are the kitchen's: send the time as an instant.
           const form = e.currentTarget;

@@ -171,7 +171,7 @@ export default function StationBatch({ loaderData, actionData }: Route.Component
       {warnings.includes("risingTemperature") ? <Notice tone="warn">{t("batch.rising")}</Notice> : null}
       {record.nextStep ? <Notice tone="error">{t(`batch.next.${record.nextStep}`)}</Notice> : null}
 
-      <div className="grid gap-6 lg:grid-cols-[1fr_auto]">
+      <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_26rem]">
         <section className="card" aria-labelledby="stages">
           <div className="flex items-center justify-between gap-3">
             <h2 id="stages" className="text-lg font-extrabold">
