@@ -29,6 +29,7 @@ export default [
       route("settings", "routes/site-settings.tsx"),
       route("team", "routes/site-team.tsx"),
       route("library", "routes/site-library.tsx"),
+      route("pans", "routes/site-pans.tsx"),
       route("station-setup", "routes/station-setup.tsx"),
       route("api-tokens", "routes/site-api-tokens.tsx"),
     ]),

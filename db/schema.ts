@@ -225,6 +225,25 @@ export const products = pgTable(
   (t) => [index().on(t.siteId)],
 );
 
+/** A pan a site uses that is not in the standard catalogue: its inside dimensions. */
+export const panTypes = pgTable(
+  "pan_types",
+  {
+    id: id(),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    name: text().notNull(),
+    lengthMm: integer().notNull(),
+    widthMm: integer().notNull(),
+    depthMm: integer().notNull(),
+    material: text().notNull().default("stainless-steel"),
+    active: boolean().notNull().default(true),
+    createdAt: createdAt(),
+  },
+  (t) => [index().on(t.siteId)],
+);
+
 /** A walk-in, reach-in, blast chiller or ice-bath station, with what the engine has learned of it. */
 export const equipment = pgTable(
   "equipment",
@@ -261,7 +280,10 @@ export const batches = pgTable(
     // The product's composition when the batch started: a later edit of the recipe does not rewrite it.
     composition: jsonb().$type<Record<string, number>>(),
     quantityKg: doublePrecision(),
+    // A catalogue size ("gn-1/1") or "custom:<pan type id>"; the dimensions are kept for the record.
     panSize: text().notNull(),
+    panLengthMm: integer(),
+    panWidthMm: integer(),
     panDepthMm: integer().notNull(),
     panCount: integer().notNull().default(1),
     fillDepthMm: integer().notNull(),

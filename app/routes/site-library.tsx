@@ -605,6 +605,11 @@ export default function SiteLibrary({ loaderData, actionData }: Route.ComponentP
           {t("library.pans")}
         </h2>
         <p className="mb-4 text-sm text-ink-soft">{t("library.pansHint")}</p>
+        <p className="mb-4">
+          <Link to="../pans" relative="path" className="font-bold text-glacier underline underline-offset-4">
+            {t("pans.link")}
+          </Link>
+        </p>
         <div className="grid gap-6 lg:grid-cols-2">
           {[
             { key: "gastronorm", sizes: gastronorm, us: false },

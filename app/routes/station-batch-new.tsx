@@ -2,7 +2,7 @@ import { and, asc, eq } from "drizzle-orm";
 import { randomUUID } from "node:crypto";
 import { useTranslation } from "react-i18next";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
-import { equipment, products } from "~db/schema";
+import { equipment, panTypes, products } from "~db/schema";
 import { CheckboxField, SelectField } from "~/components/controls";
 import { Field, Notice } from "~/components/frame";
 import { TemperatureKeypad } from "~/components/temp-keypad";
@@ -16,9 +16,10 @@ export const meta: Route.MetaFunction = () => [{ title: "Start a batch · Chillw
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { site, cook } = await requireStationCook(request);
-  const [library, kit] = await Promise.all([
+  const [library, kit, own] = await Promise.all([
     db.select().from(products).where(and(eq(products.siteId, site.id), eq(products.active, true))).orderBy(asc(products.name)),
     db.select().from(equipment).where(and(eq(equipment.siteId, site.id), eq(equipment.active, true))).orderBy(asc(equipment.name)),
+    db.select().from(panTypes).where(and(eq(panTypes.siteId, site.id), eq(panTypes.active, true))).orderBy(asc(panTypes.name)),
   ]);
   return {
     cook: cook.name,
@@ -26,7 +27,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     clientId: randomUUID(),
     products: library.map((p) => ({ id: p.id, name: p.name, panSize: p.defaultPanSize, panDepthMm: p.defaultPanDepthMm, fillDepthMm: p.defaultFillDepthMm, method: p.defaultMethod })),
     equipment: kit.map((e) => ({ id: e.id, name: e.name, method: e.method })),
-    pans: panSizes.map((p) => ({ id: p.id, name: p.name, depths: p.depthsMm })),
+    pans: [...panSizes.map((p) => ({ id: p.id, name: p.name, depths: p.depthsMm })), ...own.map((p) => ({ id: `custom:${p.id}`, name: `${p.name} (${p.lengthMm} × ${p.widthMm} mm)`, depths: [p.depthMm] }))],
     methods: coolingMethods.map((m) => ({ id: m.id, name: m.name })),
   };
 }

@@ -1,6 +1,6 @@
 import { and, asc, eq, inArray, ne } from "drizzle-orm";
 import { z } from "zod";
-import { batches, correctiveActions, equipment, products, readings, sites } from "~db/schema";
+import { batches, correctiveActions, equipment, panTypes, products, readings, sites } from "~db/schema";
 import { assessBatch, type Assessment } from "~/lib/engine/assess";
 import { coolingMethodIds, PanFillSchema, panMaterialIds, panSizeIds } from "~/lib/engine/equipment";
 import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
@@ -37,13 +37,15 @@ export const StartBatchSchema = z.object({
   quantityKg: z.number().positive("quantity must be more than 0 kg").max(5000).optional(),
   pan: z
     .object({
-      size: z.enum(panSizeIds, { error: "unknown pan size" }),
+      size: z.union([z.enum(panSizeIds), z.string().regex(/^custom:[0-9a-f-]{36}$/)], { error: "unknown pan size" }),
       depthMm: z.number().int(),
       count: z.number().int().min(1, "at least one pan").max(100).default(1),
       fillDepthMm: z.number().int().positive("fill depth must be more than 0 mm"),
       material: z.enum(panMaterialIds, { error: "unknown pan material" }).default("stainless-steel"),
     })
     .superRefine((p, ctx) => {
+      // A site's own pan is checked against its record when the batch starts.
+      if (p.size.startsWith("custom:")) return;
       const r = PanFillSchema.safeParse({ size: p.size, depthMm: p.depthMm, fillDepthMm: p.fillDepthMm });
       if (!r.success) for (const i of r.error.issues) ctx.addIssue({ code: "custom", path: i.path, message: i.message });
     }),
@@ -108,6 +110,12 @@ export async function startBatch(site: Site, who: Entrant, input: StartBatchInpu
     const [eqp] = await db.select({ id: equipment.id }).from(equipment).where(and(eq(equipment.id, input.equipmentId), eq(equipment.siteId, site.id)));
     if (!eqp) errors.equipmentId = "unknown equipment";
   }
+  let custom: typeof panTypes.$inferSelect | undefined;
+  if (input.pan.size.startsWith("custom:")) {
+    [custom] = await db.select().from(panTypes).where(and(eq(panTypes.id, input.pan.size.slice(7)), eq(panTypes.siteId, site.id), eq(panTypes.active, true)));
+    if (!custom) errors["pan.size"] = "unknown pan size";
+    else if (input.pan.fillDepthMm > custom.depthMm) errors["pan.fillDepthMm"] = `Fill depth ${input.pan.fillDepthMm} mm is more than the pan's depth of ${custom.depthMm} mm`;
+  }
   const tProblem = temperatureProblem(input.start.value, input.start.unit);
   if (tProblem) errors["start.value"] = tProblem;
   const startedAt = input.start.takenAt ? Date.parse(input.start.takenAt) : now;
@@ -131,7 +139,9 @@ export async function startBatch(site: Site, who: Entrant, input: StartBatchInpu
         composition: product!.composition,
         quantityKg: input.quantityKg ?? null,
         panSize: input.pan.size,
-        panDepthMm: input.pan.depthMm,
+        panLengthMm: custom?.lengthMm ?? null,
+        panWidthMm: custom?.widthMm ?? null,
+        panDepthMm: custom?.depthMm ?? input.pan.depthMm,
         panCount: input.pan.count,
         fillDepthMm: input.pan.fillDepthMm,
         panMaterial: input.pan.material,
@@ -322,7 +332,7 @@ function assessRows(
     ruleSet: getRuleSet(batch.ruleSetCode)!,
     setup: {
       food,
-      pan: { size: batch.panSize, depthMm: batch.panDepthMm },
+      pan: batch.panLengthMm && batch.panWidthMm ? { lengthMm: batch.panLengthMm, widthMm: batch.panWidthMm, depthMm: batch.panDepthMm } : { size: batch.panSize, depthMm: batch.panDepthMm },
       fillDepthMm: batch.fillDepthMm,
       panMaterial: batch.panMaterial,
       lid: batch.lid,

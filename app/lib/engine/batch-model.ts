@@ -4,10 +4,24 @@ import { getCoolingMethod, panGeometry, surfaceCoefficients, type PanSelection, 
 import type { Alternative } from "./predict";
 import type { FoodProperties } from "./properties";
 
+export type CustomPan = { lengthMm: number; widthMm: number; depthMm: number };
+
+/** Dimensions and face areas of the food in a pan, for a catalogue size or a site's own pan. */
+function fillOf(pan: PanSelection | CustomPan, fillDepthMm: number, method: string) {
+  if ("size" in pan) {
+    const g = panGeometry(pan, fillDepthMm, method);
+    return { lengthM: g.lengthM, widthM: g.widthM, fillDepthM: g.fillDepthM, areas: { top: g.faces.top.areaM2, bottom: g.faces.bottom.areaM2, walls: g.faces.walls.areaM2 } };
+  }
+  if (fillDepthMm > pan.depthMm) throw new RangeError(`Fill depth ${fillDepthMm} mm is more than the pan's depth of ${pan.depthMm} mm`);
+  const [l, w, d] = [pan.lengthMm / 1000, pan.widthMm / 1000, fillDepthMm / 1000];
+  return { lengthM: l, widthM: w, fillDepthM: d, areas: { top: l * w, bottom: l * w, walls: 2 * (l + w) * d } };
+}
+
 /** What a cook enters when starting a batch, as far as the physics is concerned. */
 export type BatchSetup = {
   food: FoodProperties;
-  pan: PanSelection;
+  /** A catalogue pan, or a site's own pan by its inside dimensions. */
+  pan: PanSelection | CustomPan;
   fillDepthMm: number;
   panMaterial: string;
   lid: boolean;
@@ -30,7 +44,7 @@ export function effectiveAmbient(sc: SurfaceCoefficients, areas: { top: number; 
 }
 
 function bodyFor(setup: Pick<BatchSetup, "pan" | "fillDepthMm" | "panMaterial" | "lid" | "method">) {
-  const g = panGeometry(setup.pan, setup.fillDepthMm, setup.method);
+  const g = fillOf(setup.pan, setup.fillDepthMm, setup.method);
   const sc = surfaceCoefficients(setup.method, { lid: setup.lid, panMaterial: setup.panMaterial });
   const geometry: Geometry = {
     shape: "block",
@@ -41,7 +55,7 @@ function bodyFor(setup: Pick<BatchSetup, "pan" | "fillDepthMm" | "panMaterial" |
     bottomH: sc.bottomH,
     topH: sc.topH,
   };
-  const ambientC = effectiveAmbient(sc, { top: g.faces.top.areaM2, bottom: g.faces.bottom.areaM2, walls: g.faces.walls.areaM2 });
+  const ambientC = effectiveAmbient(sc, g.areas);
   return { geometry, ambientC, sc };
 }
 
