@@ -19,7 +19,7 @@ export function clock(ms: number, timeZone: string, lang: string) {
   return new Intl.DateTimeFormat(lang, { timeZone, hour: "2-digit", minute: "2-digit" }).format(ms);
 }
 
-export function BatchCard({ card, now, timeZone, to }: { card: CardData; now: number; timeZone: string; to: string }) {
+export function BatchCard({ card, now, timeZone, to, pending = 0 }: { card: CardData; now: number; timeZone: string; to: string; pending?: number }) {
   const { t, i18n } = useTranslation();
   const overdue = card.nextDueAt !== null && now > card.nextDueAt;
   return (
@@ -61,6 +61,11 @@ export function BatchCard({ card, now, timeZone, to }: { card: CardData; now: nu
             </dd>
           </div>
         </dl>
+        {pending > 0 ? (
+          <p className="mt-3 rounded-lg bg-amber-light px-2 py-1 text-sm font-bold text-amber" data-testid="card-pending">
+            {t("outbox.onCard", { count: pending })}
+          </p>
+        ) : null}
         <p className={`mt-3 text-sm font-bold ${overdue ? "text-ember" : "text-ink-soft"}`}>
           {card.nextDueAt === null ? null : overdue ? t("batch.readingOverdue", { time: countdown(now - card.nextDueAt).replace("−", "") }) : t("batch.nextReading", { time: clock(card.nextDueAt, timeZone, i18n.language) })}
         </p>

@@ -101,7 +101,7 @@ export default function StartBatch({ loaderData, actionData }: Route.ComponentPr
             <Field label={t("batch.panCount")} name="panCount" inputMode="numeric" defaultValue={1} error={errors["pan.count"]} />
           </div>
           <div className="grid gap-x-4 sm:grid-cols-2">
-            <SelectField label={t("batch.method")} name="method" defaultValue={first?.method ?? "walk-in"} options={methods.map((m) => ({ value: m.id, label: m.name }))} error={errors.method} />
+            <SelectField label={t("batch.method")} name="method" defaultValue={first?.method ?? "walk-in"} options={methods.map((m) => ({ value: m.id, label: t(`library.methods.${m.id}`, { defaultValue: m.name }) }))} error={errors.method} />
             <SelectField label={t("batch.equipment")} name="equipmentId" defaultValue="" options={[{ value: "", label: "—" }, ...kit.map((e) => ({ value: e.id, label: e.name }))]} error={errors.equipmentId} />
           </div>
           <CheckboxField label={t("batch.lid")} name="lid" />

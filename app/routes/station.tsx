@@ -196,7 +196,7 @@ export default function Station({ loaderData, actionData }: Route.ComponentProps
             </h2>
             <ul className="grid gap-4 md:grid-cols-2">
               {cards.map((c) => (
-                <BatchCard key={c.id} card={c} now={now} timeZone={timeZone} to={`/station/batches/${c.id}`} />
+                <BatchCard key={c.id} card={c} now={now} timeZone={timeZone} to={`/station/batches/${c.id}`} pending={pending.filter((e) => e.batchId === c.id).length} />
               ))}
             </ul>
           </section>

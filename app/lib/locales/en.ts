@@ -195,6 +195,8 @@ export const en = {
   outbox: {
     pending_one: "{{count}} entry is saved on this tablet and not sent yet: it goes as soon as the network is back.",
     pending_other: "{{count}} entries are saved on this tablet and not sent yet: they go as soon as the network is back.",
+    onCard_one: "{{count}} reading saved on this tablet, not sent yet",
+    onCard_other: "{{count}} readings saved on this tablet, not sent yet",
     sent: "Reading saved.",
     enterTemperature: "Enter a temperature",
     photo: "Photo of the probe",

@@ -197,6 +197,8 @@ export const es: Messages = {
   outbox: {
     pending_one: "{{count}} entrada está guardada en esta tableta y aún no se ha enviado: se enviará en cuanto vuelva la red.",
     pending_other: "{{count}} entradas están guardadas en esta tableta y aún no se han enviado: se enviarán en cuanto vuelva la red.",
+    onCard_one: "{{count}} lectura guardada en esta tableta, aún sin enviar",
+    onCard_other: "{{count}} lecturas guardadas en esta tableta, aún sin enviar",
     sent: "Lectura guardada.",
     enterTemperature: "Introduce una temperatura",
     photo: "Foto del termómetro",
