@@ -52,7 +52,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const horizon = Math.max(...a!.prediction.stages.map((s) => Math.max(s.deadlineS ?? 0, s.highS ?? s.reachS ?? 0)));
   const until = Math.min(a!.originAt + 12 * 3600_000, Math.max(a!.originAt + horizon * 1000, now, from + 3600_000));
   const predicted = predictedSeries(sol, a!.originAt, from, until, 100);
-  const band = bandSeries(sol, a!.originAt, predicted, spreadByTemperature(a!.prediction.stages), { readings: record });
+  // Only the readings the model was fitted on (after a reheat or a move) bound its band.
+  const band = bandSeries(sol, a!.originAt, predicted, spreadByTemperature(a!.prediction.stages), { readings: record.filter((r) => r.t >= a!.originAt) });
   const grid = sampleDepthTime(sol, a!.originAt, Math.max(now, from, a!.originAt + 600_000), 40, 20);
   const chartStages = a!.evaluation.stages.map((s, i) => ({
     label: `${s.stage}`,
