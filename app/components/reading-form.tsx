@@ -90,6 +90,8 @@ export function ReadingForm({
       body: {
         clientId: formKey,
         value,
+        unit,
+        enteredAt: new Date().toISOString(),
         takenAt: corrects ? new Date(corrects.takenAt).toISOString() : (when ? new Date(when) : new Date()).toISOString(),
         probe: String(fd.get("probe") ?? "") || undefined,
         kind,

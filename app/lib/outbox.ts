@@ -1,4 +1,4 @@
-import { createStore, get, set } from "idb-keyval";
+import { createStore, get, update } from "idb-keyval";
 
 // Entries made on a station tablet are saved here (IndexedDB) before they are sent, and sent in
 // order when the network allows: nothing the cook saw as saved is lost, and the server's client-id
@@ -11,7 +11,10 @@ export type OutboxEntry = {
   body: {
     clientId: string;
     value: number;
+    unit: "F" | "C";
     takenAt: string;
+    /** When the cook saved it: the attribution is checked against this moment. */
+    enteredAt: string;
     probe?: string;
     kind: "reading" | "reheat";
     attribution: string;
@@ -33,8 +36,9 @@ export async function listOutbox(): Promise<OutboxEntry[]> {
   return (await get<OutboxEntry[]>(KEY, db())) ?? [];
 }
 
-async function write(entries: OutboxEntry[]) {
-  await set(KEY, entries, db());
+/** Every change is one read-modify-write transaction, so a background send never overwrites a new save. */
+async function change(fn: (entries: OutboxEntry[]) => OutboxEntry[]) {
+  await update<OutboxEntry[]>(KEY, (old) => fn(old ?? []), db());
   for (const l of listeners) l();
 }
 
@@ -44,16 +48,15 @@ export function onOutboxChange(listener: () => void) {
 }
 
 export async function saveToOutbox(entry: OutboxEntry) {
-  const all = await listOutbox();
-  if (!all.some((e) => e.clientId === entry.clientId)) await write([...all, entry]);
+  await change((all) => (all.some((e) => e.clientId === entry.clientId) ? all : [...all, entry]));
 }
 
 async function replace(entry: OutboxEntry) {
-  await write((await listOutbox()).map((e) => (e.clientId === entry.clientId ? entry : e)));
+  await change((all) => all.map((e) => (e.clientId === entry.clientId ? entry : e)));
 }
 
 async function remove(clientId: string) {
-  await write((await listOutbox()).filter((e) => e.clientId !== clientId));
+  await change((all) => all.filter((e) => e.clientId !== clientId));
 }
 
 let flushing: Promise<FlushResult> | null = null;
@@ -71,6 +74,7 @@ export function flushOutbox(): Promise<FlushResult> {
             form.set("photo", entry.photo, "probe.jpg");
             form.set("attribution", entry.body.attribution);
             form.set("takenAt", entry.body.takenAt);
+            form.set("enteredAt", entry.body.enteredAt);
             const res = await fetch("/station/photos", { method: "POST", body: form });
             if (res.ok) {
               entry.body.photoId = ((await res.json()) as { id: string }).id;
@@ -90,6 +94,8 @@ export function flushOutbox(): Promise<FlushResult> {
             const body = (await res.json().catch(() => ({}))) as { warnings?: string[] };
             if (body.warnings?.length) warnings.set(entry.clientId, body.warnings);
             await remove(entry.clientId);
+          } else if (res.status === 408 || res.status === 429) {
+            break; // the server is busy: try again later, in the same order
           } else if (res.status >= 400 && res.status < 500) {
             const body = (await res.json().catch(() => ({}))) as { errors?: Record<string, string>; error?: string };
             rejected.push({ entry, status: res.status, errors: body.errors ?? { request: body.error ?? `refused (${res.status})` } });

@@ -7,8 +7,8 @@ import type { Route } from "./+types/station.photos";
 // attribution and the time it was taken).
 export async function action({ request }: Route.ActionArgs) {
   const upload = await readPhotoUpload(request);
-  const takenAt = typeof upload.fields.takenAt === "string" ? Date.parse(upload.fields.takenAt) : Date.now();
-  const { site, entrant } = await requireStationEntrant(request, upload.fields.attribution, takenAt);
+  const when = upload.fields.enteredAt ?? upload.fields.takenAt;
+  const { site, entrant } = await requireStationEntrant(request, upload.fields.attribution, when ? Date.parse(when) : NaN);
   const photo = await processPhoto(upload.bytes);
   return data(await savePhoto(site, entrant, photo), { status: 201 });
 }

@@ -7,6 +7,7 @@ import type { Assessment } from "~/lib/engine/assess";
 import type { ApiCaller } from "./api-tokens.server";
 import type { Entrant } from "./batches.server";
 import { db } from "./db.server";
+import { readBody } from "./photos.server";
 
 /** zod issues as `{ "field.path": message }`, the API's error shape. */
 export function apiErrors(error: z.ZodError) {
@@ -15,14 +16,11 @@ export function apiErrors(error: z.ZodError) {
   return out;
 }
 
-/** A JSON body of at most 1 MB (the API's requests are a few kilobytes). */
-export async function readJson(request: Request) {
-  const declared = Number(request.headers.get("content-length") ?? 0);
-  if (declared > 1_000_000) throw data({ errors: { request: "The body is larger than 1 MB." } }, { status: 413 });
+/** A JSON body of at most 1 MB (the API's requests are a few kilobytes), counted as it arrives. */
+export async function readJson(request: Request): Promise<unknown> {
+  const bytes = await readBody(request, 1_000_000);
   try {
-    const text = await request.text();
-    if (text.length > 1_000_000) throw new RangeError("too large");
-    return JSON.parse(text);
+    return JSON.parse(bytes.toString("utf8"));
   } catch {
     throw data({ errors: { request: "The body must be one JSON object (Content-Type: application/json)." } }, { status: 400 });
   }

@@ -1,6 +1,6 @@
-import { and, asc, eq, inArray, ne } from "drizzle-orm";
+import { and, asc, eq, inArray, ne, sql } from "drizzle-orm";
 import { z } from "zod";
-import { batches, correctiveActions, equipment, panTypes, products, readings, sites } from "~db/schema";
+import { auditEvents, batches, correctiveActions, equipment, panTypes, photos, products, readings, sites } from "~db/schema";
 import { assessBatch, type Assessment } from "~/lib/engine/assess";
 import { coolingMethodIds, PanFillSchema, panMaterialIds, panSizeIds } from "~/lib/engine/equipment";
 import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
@@ -144,7 +144,7 @@ export async function startBatch(site: Site, who: Entrant, input: StartBatchInpu
         panDepthMm: custom?.depthMm ?? input.pan.depthMm,
         panCount: input.pan.count,
         fillDepthMm: input.pan.fillDepthMm,
-        panMaterial: input.pan.material,
+        panMaterial: custom?.material ?? input.pan.material,
         lid: input.lid,
         method: input.method,
         equipmentId: input.equipmentId ?? null,
@@ -200,6 +200,10 @@ export async function recordReading(site: Site, who: Entrant, batchId: string, i
   if (when) errors.takenAt = when;
   const earlier = await db.select().from(readings).where(eq(readings.batchId, batch.id)).orderBy(asc(readings.takenAt));
   if (input.corrects && !earlier.some((r) => r.id === input.corrects!.readingId)) errors["corrects.readingId"] = "That reading is not one of this batch's";
+  if (input.photoId) {
+    const [photo] = await db.select({ id: photos.id }).from(photos).where(and(eq(photos.id, input.photoId), eq(photos.siteId, site.id)));
+    if (!photo) errors.photoId = "unknown photo";
+  }
   if (Object.keys(errors).length) return fail(errors);
 
   const valueC = toCelsius(input.value, input.unit);
@@ -252,6 +256,8 @@ export async function recordReading(site: Site, who: Entrant, batchId: string, i
   return { ok: true, value: row, created: true, warnings };
 }
 
+class BatchEnded extends Error {}
+
 /**
  * A corrective action: move the batch to another method now, or discard it (with the quantity). Each
  * is recorded once (client id), with who and when, in the same transaction as the change it makes.
@@ -275,14 +281,20 @@ export async function takeCorrectiveAction(site: Site, who: Entrant, batchId: st
       .onConflictDoNothing()
       .returning();
     if (!ca) return null;
-    if (input.kind === "change_method") {
-      await tx.update(batches).set({ method: input.method, lid: input.lid, equipmentId: input.equipmentId ?? null }).where(eq(batches.id, batch.id));
-    } else {
-      await tx.update(batches).set({ state: "discarded", endedAt: new Date(now), quantityKg: batch.quantityKg }).where(eq(batches.id, batch.id));
-    }
+    // Only a batch still cooling changes; a concurrent end makes the whole action roll back.
+    const changes =
+      input.kind === "change_method"
+        ? { method: input.method, lid: input.lid, equipmentId: input.equipmentId ?? null }
+        : { state: "discarded" as const, endedAt: new Date(now), quantityKg: input.quantityKg ?? batch.quantityKg };
+    const [changed] = await tx.update(batches).set(changes).where(and(eq(batches.id, batch.id), eq(batches.state, "cooling"))).returning({ id: batches.id });
+    if (!changed) throw new BatchEnded();
     await recordAudit(tx, { actor: who.actor, organisationId: site.organisationId, siteId: site.id, action: `batch.${kind}`, entity: "batch", entityId: batch.id, data: { correctiveActionId: ca.id, ...detail } });
     return ca;
+  }).catch((e) => {
+    if (e instanceof BatchEnded) return "ended" as const;
+    throw e;
   });
+  if (row === "ended") return fail({ batch: "This batch has ended" }, 409);
   if (!row) {
     const [ca] = await db.select().from(correctiveActions).where(and(eq(correctiveActions.batchId, batch.id), eq(correctiveActions.clientId, input.clientId)));
     return { ok: true, value: ca, created: false, warnings: [] };
@@ -293,11 +305,13 @@ export async function takeCorrectiveAction(site: Site, who: Entrant, batchId: st
 /** The readings that count: a correction stands in place of the reading it corrects. */
 export function effectiveReadings(rows: (typeof readings.$inferSelect)[]) {
   const corrected = new Map<string, typeof readings.$inferSelect>();
-  for (const r of rows) if (r.correctsReadingId) corrected.set(r.correctsReadingId, r);
+  // The latest correction of an entry wins (by when it arrived).
+  for (const r of [...rows].sort((a, b) => a.receivedAt.getTime() - b.receivedAt.getTime())) if (r.correctsReadingId) corrected.set(r.correctsReadingId, r);
+  // A correction replaces the value, never the time or the kind of the entry it corrects.
   return rows.filter((r) => !r.correctsReadingId).map((r) => {
     let last = r;
     while (corrected.has(last.id)) last = corrected.get(last.id)!;
-    return last === r ? r : { ...last, id: r.id };
+    return last === r ? r : { ...r, valueEntered: last.valueEntered, unitEntered: last.unitEntered, valueC: last.valueC };
   });
 }
 
@@ -373,6 +387,9 @@ async function settleState(site: Site, batchId: string, now: number) {
 async function learnFromBatch(tx: Parameters<Parameters<typeof db.transaction>[0]>[0], site: Site, batchId: string, a: Assessment) {
   const [row] = await tx.select({ equipmentId: batches.equipmentId, method: batches.method }).from(batches).where(eq(batches.id, batchId));
   if (!row?.equipmentId || a.prediction.calibration.readingsUsed < 3) return;
+  // Each batch teaches once, even if a correction reopens and ends it again.
+  const taught = await tx.select({ id: auditEvents.id }).from(auditEvents).where(and(eq(auditEvents.action, "equipment.learned"), sql`${auditEvents.data}->>'batchId' = ${batchId}`)).limit(1);
+  if (taught.length) return;
   const moved = await tx.select({ id: correctiveActions.id }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method")));
   if (moved.length) return;
   const [eqp] = await tx.select().from(equipment).where(and(eq(equipment.id, row.equipmentId), eq(equipment.siteId, site.id)));

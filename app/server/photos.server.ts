@@ -47,7 +47,8 @@ function discardRest(reader: ReadableStreamDefaultReader<Uint8Array>) {
 }
 
 /** The body, up to `limit` bytes: the declared length is checked first, and the count while reading. */
-async function readBody(request: Request, limit: number) {
+/** The body, counted as it arrives and refused (413) past `limit` bytes, with or without a length. */
+export async function readBody(request: Request, limit: number) {
   const reader = request.body?.getReader();
   if (Number(request.headers.get("content-length")) > limit) {
     if (reader) discardRest(reader);

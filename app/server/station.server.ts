@@ -1,4 +1,4 @@
-import { and, eq, isNull, lt, sql } from "drizzle-orm";
+import { and, eq, inArray, isNull, lt, sql } from "drizzle-orm";
 import { createHmac } from "node:crypto";
 import { memberships, sites, stationDevices, users } from "~db/schema";
 import { recordAudit } from "./audit.server";
@@ -67,7 +67,8 @@ export function listStationPeople(siteId: string) {
     .select({ id: users.id, name: users.name, role: memberships.role, locked: sql<boolean>`${users.pinLockedAt} is not null`, hasPin: sql<boolean>`${users.pinHash} is not null` })
     .from(memberships)
     .innerJoin(users, eq(users.id, memberships.userId))
-    .where(and(eq(memberships.siteId, siteId), eq(users.active, true)))
+    // QA reads the records but does not make entries.
+    .where(and(eq(memberships.siteId, siteId), eq(users.active, true), inArray(memberships.role, ["cook", "manager", "admin"])))
     .orderBy(users.name);
 }
 
@@ -82,7 +83,7 @@ export async function verifyStationPin(device: StationDevice, userId: string, pi
   const [person] = await db
     .select({ id: users.id, name: users.name, pinHash: users.pinHash })
     .from(users)
-    .innerJoin(memberships, and(eq(memberships.userId, users.id), eq(memberships.siteId, device.siteId)))
+    .innerJoin(memberships, and(eq(memberships.userId, users.id), eq(memberships.siteId, device.siteId), inArray(memberships.role, ["cook", "manager", "admin"])))
     .where(and(eq(users.id, userId), eq(users.active, true)));
   if (!person) return { ok: false, reason: "unknown" };
   const [reserved] = await db
@@ -143,7 +144,11 @@ export function readAttribution(raw: string, device: StationDevice, at: number) 
   const [deviceId, userId, expires, mac] = parts;
   if (!sameHash(mac, sign(`${deviceId}.${userId}.${expires}`))) return null;
   // Entries up to a day old may arrive after a network outage; each must be taken within the PIN's window.
-  if (deviceId !== device.id || Number(expires) < at || at < Date.now() - 24 * 3600_000) return null;
+  const until = Number(expires);
+  if (!Number.isFinite(at) || !Number.isFinite(until) || deviceId !== device.id) return null;
+  // Valid for entries taken while the PIN was on (from its entry to its expiry, a minute's clock skew
+  // either side), sent within a day.
+  if (at > until + 60_000 || at < until - COOK_MINUTES * 60_000 - 60_000 || at < Date.now() - 24 * 3600_000) return null;
   return userId;
 }
 
