@@ -2,6 +2,7 @@ import { useTranslation } from "react-i18next";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import { Field, Notice } from "~/components/frame";
+import { RetireList } from "~/components/retire-list";
 import { fieldErrors } from "~/lib/forms";
 import { createApiToken, listApiTokens, revokeApiToken } from "~/server/api-tokens.server";
 import { can, isUuid, notFound, requireRole } from "~/server/guards.server";
@@ -32,7 +33,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function SiteApiTokens({ loaderData, actionData }: Route.ComponentProps) {
-  const { t, i18n } = useTranslation();
+  const { t } = useTranslation();
   const { siteName, tokens } = loaderData;
   const errors: Record<string, string> = actionData?.errors ?? {};
   const busy = useNavigation().state !== "idle";
@@ -62,23 +63,7 @@ export default function SiteApiTokens({ loaderData, actionData }: Route.Componen
           <h2 id="tokens" className="mb-3 text-lg font-extrabold">
             {t("apiTokens.list")}
           </h2>
-          <ul className="grid gap-2">
-            {tokens.map((tk) => (
-              <li key={tk.id} className="flex flex-wrap items-center justify-between gap-3 rounded-xl bg-frost px-4 py-2">
-                <span>
-                  <span className="font-bold">{tk.name}</span> · <code>{`cw_${tk.prefix}_…`}</code> ·{" "}
-                  {tk.lastUsedAt ? t("station.lastSeen", { when: new Date(tk.lastUsedAt).toLocaleString(i18n.language) }) : t("station.never")}
-                </span>
-                <Form method="post">
-                  <input type="hidden" name="intent" value="revoke" />
-                  <input type="hidden" name="tokenId" value={tk.id} />
-                  <button type="submit" className="btn-quiet min-h-12 px-3 text-sm">
-                    {t("apiTokens.revoke")}
-                  </button>
-                </Form>
-              </li>
-            ))}
-          </ul>
+          <RetireList items={tokens.map((tk) => ({ id: tk.id, name: tk.name, detail: `cw_${tk.prefix}_…`, lastUsedAt: tk.lastUsedAt }))} intent="revoke" idField="tokenId" buttonLabel={t("apiTokens.revoke")} />
         </section>
       ) : null}
     </div>

@@ -4,6 +4,7 @@ import { data, Form, redirect } from "react-router";
 import { z } from "zod";
 import { stationDevices } from "~db/schema";
 import { Field } from "~/components/frame";
+import { RetireList } from "~/components/retire-list";
 import { fieldErrors } from "~/lib/forms";
 import { recordAudit } from "~/server/audit.server";
 import { clearSessionCookie } from "~/server/auth.server";
@@ -63,10 +64,9 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 export default function StationSetup({ loaderData, actionData }: Route.ComponentProps) {
-  const { t, i18n } = useTranslation();
+  const { t } = useTranslation();
   const { siteName, devices } = loaderData;
   const errors: Record<string, string> = actionData?.errors ?? {};
-  const when = (d: Date | string | null) => (d ? new Date(d).toLocaleString(i18n.language) : null);
   return (
     <div className="grid max-w-2xl gap-6">
       <h1 className="text-2xl font-extrabold tracking-tight">{t("station.setupTitle")}</h1>
@@ -83,22 +83,7 @@ export default function StationSetup({ loaderData, actionData }: Route.Component
           <h2 id="devices" className="mb-3 text-lg font-extrabold">
             {t("station.devices")}
           </h2>
-          <ul className="grid gap-2">
-            {devices.map((d) => (
-              <li key={d.id} className="flex items-center justify-between gap-3 rounded-xl bg-frost px-4 py-2">
-                <span>
-                  <span className="font-bold">{d.name}</span> · {d.lastSeenAt ? t("station.lastSeen", { when: when(d.lastSeenAt) }) : t("station.never")}
-                </span>
-                <Form method="post">
-                  <input type="hidden" name="intent" value="retire" />
-                  <input type="hidden" name="deviceId" value={d.id} />
-                  <button type="submit" className="btn-quiet min-h-12 px-3 text-sm">
-                    {t("station.revoke")}
-                  </button>
-                </Form>
-              </li>
-            ))}
-          </ul>
+          <RetireList items={devices.map((d) => ({ id: d.id, name: d.name, lastUsedAt: d.lastSeenAt }))} intent="retire" idField="deviceId" buttonLabel={t("station.revoke")} />
         </section>
       ) : null}
     </div>
