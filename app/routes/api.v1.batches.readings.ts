@@ -16,7 +16,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   const result = await recordReading(site, entrantOf(caller), params.id, parsed.data);
   if (!result.ok) return data({ errors: result.errors }, { status: result.status });
   const r = result.value;
-  const a = await assess(site, params.id);
+  // A new reading was assessed as it settled the batch's state; a repeated one is assessed now.
+  const a = result.assessment ?? (await assess(site, params.id));
   return data(
     {
       reading: { id: r.id, clientId: r.clientId, value: r.valueEntered, unit: r.unitEntered, valueC: r.valueC, takenAt: r.takenAt.toISOString(), receivedAt: r.receivedAt.toISOString(), late: r.late, corrects: r.correctsReadingId },

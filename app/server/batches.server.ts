@@ -89,7 +89,7 @@ export type ReadingInput = z.infer<typeof ReadingSchema>;
 export type Entrant = { actor: Actor; userId: string | null; source: "station" | "web" | "api"; stationDeviceId?: string; apiTokenId?: string };
 type Site = typeof sites.$inferSelect;
 type FieldErrors = Record<string, string>;
-export type Outcome<T> = { ok: true; value: T; created: boolean; warnings: string[] } | { ok: false; status: 400 | 404 | 409; errors: FieldErrors };
+export type Outcome<T> = { ok: true; value: T; created: boolean; warnings: string[]; assessment?: Assessment } | { ok: false; status: 400 | 404 | 409; errors: FieldErrors };
 
 const fail = (errors: FieldErrors, status: 400 | 404 | 409 = 400) => ({ ok: false as const, status, errors });
 
@@ -252,8 +252,8 @@ export async function recordReading(site: Site, who: Entrant, batchId: string, i
     const [r] = await db.select().from(readings).where(and(eq(readings.batchId, batch.id), eq(readings.clientId, input.clientId)));
     return { ok: true, value: r, created: false, warnings: [] };
   }
-  await settleState(site, batch.id, now);
-  return { ok: true, value: row, created: true, warnings };
+  const assessment = await settleState(site, batch.id, now);
+  return { ok: true, value: row, created: true, warnings, assessment };
 }
 
 class BatchEnded extends Error {}
@@ -365,7 +365,7 @@ function assessRows(
 /** The state follows the record: cooled once the readings meet every stage, cooling again if a correction undoes that. */
 async function settleState(site: Site, batchId: string, now: number) {
   const a = await assess(site, batchId, now);
-  if (!a) return;
+  if (!a) return undefined;
   const state = a.evaluation.outcome === "passed" ? (a.evaluation.attempts.length > 1 ? "cooled_after_reheat" : "cooled") : "cooling";
   await db.transaction(async (tx) => {
     const [b] = await tx
@@ -377,6 +377,7 @@ async function settleState(site: Site, batchId: string, now: number) {
     await recordAudit(tx, { actor: { kind: "system", label: "rule evaluation" }, organisationId: site.organisationId, siteId: site.id, action: `batch.${state}`, entity: "batch", entityId: batchId });
     if (state !== "cooling") await learnFromBatch(tx, site, batchId, a);
   });
+  return a;
 }
 
 /**

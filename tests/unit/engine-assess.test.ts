@@ -78,7 +78,9 @@ describe("assessing a batch", () => {
     // last reading at or above the limit, 30 min after the reheat.
     expect(a.provisionalDeadlines).toBe(true);
     expect(a.prediction.stages[0].deadlineS).toBe(30 * 60 + 2 * 3600);
-    expect(a.prediction.now.centerC).toBeLessThan(75);
+    // The model restarted at the reheat: it is fitted on the one reading after it, not the earlier ones.
+    expect(a.originAt).toBe(t0 + 200 * min);
+    expect(a.prediction.calibration.readingsUsed).toBe(1);
   });
 
   it("a stage timed from the end of the one before gets its deadline from the predicted end of it", () => {

@@ -60,7 +60,10 @@ describe("the predict request", () => {
     if (!r.ok) throw new Error(JSON.stringify(r.errors));
     expect(r.response.calibration!.readingsUsed).toBe(2);
     expect(r.response.stages).toHaveLength(2);
-    expect(["ahead", "tight", "behind"]).toContain(r.response.verdict);
+    // The verdict follows the weakest stage: ≥ 90 % ahead, ≥ 50 % tight, else behind.
+    const worst = Math.min(...r.response.stages!.map((s) => s.probability ?? 1));
+    expect(r.response.verdict).toBe(worst >= 0.9 ? "ahead" : worst >= 0.5 ? "tight" : "behind");
+    for (const s of r.response.stages!) expect(s.lowS! <= s.reachS! && s.reachS! <= s.highS!).toBe(true);
   });
 
   it("evaluates a rule set on readings in their own unit", () => {
