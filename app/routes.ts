@@ -32,6 +32,10 @@ export default [
       route("pans", "routes/site-pans.tsx"),
       route("station-setup", "routes/station-setup.tsx"),
       route("api-tokens", "routes/site-api-tokens.tsx"),
+      route("review", "routes/site-review.tsx"),
+      route("batches/:batchId", "routes/site-batch.tsx"),
+      route("equipment/:equipmentId", "routes/site-equipment.tsx"),
+      route("alerts", "routes/site-alerts.tsx"),
     ]),
   ]),
 ] satisfies RouteConfig;

@@ -49,6 +49,10 @@ export const sites = pgTable(
     overdueGraceMinutes: integer().notNull().default(10),
     retentionDays: integer().notNull().default(730),
     allowSelfVerification: boolean().notNull().default(false),
+    // An alert nobody acknowledges goes to the next recipient after this long.
+    escalateAfterMinutes: integer().notNull().default(15),
+    // Local hour (site time zone) of the daily digest of records waiting for verification.
+    digestHour: integer().notNull().default(21),
     createdAt: createdAt(),
   },
   (t) => [index().on(t.organisationId)],
@@ -298,9 +302,19 @@ export const batches = pgTable(
     startNotCaptured: boolean().notNull().default(false),
     state: batchStateEnum().notNull().default("cooling"),
     endedAt: at(),
+    // The latest assessment, kept for the review queue and the manager's home (derived, refreshed on
+    // every entry and by the alert sweep; the readings remain the record).
+    verdict: text().$type<"ahead" | "tight" | "behind">(),
+    assessedAt: at(),
+    // The earliest deadline passed without a reading at or below its limit (current attempt).
+    missedAt: at(),
+    // When the next reading is due (last reading + the site's interval); null once ended.
+    nextReadingDueAt: at(),
+    // ln of the surface factor fitted on this batch's readings when it ended (what it taught its equipment).
+    fittedLnS: doublePrecision(),
     createdAt: createdAt(),
   },
-  (t) => [uniqueIndex().on(t.siteId, t.clientId), index().on(t.siteId, t.state)],
+  (t) => [uniqueIndex().on(t.siteId, t.clientId), index().on(t.siteId, t.state), index().on(t.equipmentId, t.endedAt)],
 );
 
 // Append-only: a trigger refuses UPDATE and DELETE. A correction is a new row naming the one it corrects.
@@ -376,4 +390,124 @@ export const photos = pgTable(
     createdAt: createdAt(),
   },
   (t) => [index().on(t.siteId, t.createdAt)],
+);
+
+// HACCP verification: a manager's signature on a finished batch. Append-only; a later correction of the
+// record shows as a correction after the signature, and the batch may be signed again.
+export const verifications = pgTable(
+  "verifications",
+  {
+    id: id(),
+    batchId: uuid()
+      .notNull()
+      .references(() => batches.id),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    signedBy: uuid()
+      .notNull()
+      .references(() => users.id),
+    signedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    // The exact words the signer agreed to, and their version.
+    statement: text().notNull(),
+    statementVersion: integer().notNull(),
+    comment: text(),
+    // What the signature covers: the number of entries of the record when it was signed.
+    readingsCovered: integer().notNull(),
+    actionsCovered: integer().notNull(),
+  },
+  (t) => [index().on(t.batchId), index().on(t.siteId, t.signedAt)],
+);
+
+// A manager's confirmation of a corrective action a cook took. Append-only, one per action.
+export const actionConfirmations = pgTable(
+  "action_confirmations",
+  {
+    id: id(),
+    correctiveActionId: uuid()
+      .notNull()
+      .references(() => correctiveActions.id),
+    batchId: uuid()
+      .notNull()
+      .references(() => batches.id),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    confirmedBy: uuid()
+      .notNull()
+      .references(() => users.id),
+    confirmedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    note: text(),
+  },
+  (t) => [uniqueIndex().on(t.correctiveActionId), index().on(t.batchId)],
+);
+
+export const alertKindEnum = pgEnum("alert_kind", ["off_track", "stage_missed", "reading_overdue", "verification_digest"]);
+export const deliveryStatusEnum = pgEnum("delivery_status", ["queued", "sending", "retrying", "sent", "failed"]);
+
+// Who gets each kind of alert at a site, in escalation order (position 1 first).
+export const alertRecipients = pgTable(
+  "alert_recipients",
+  {
+    id: id(),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    kind: alertKindEnum().notNull(),
+    userId: uuid()
+      .notNull()
+      .references(() => users.id),
+    position: integer().notNull(),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex().on(t.siteId, t.kind, t.userId), index().on(t.siteId, t.kind, t.position)],
+);
+
+// One row per event (a batch going off track, a missed stage, an overdue reading, a day's digest):
+// the unique key makes a second sweep or a second worker find the event already there.
+export const alertEvents = pgTable(
+  "alert_events",
+  {
+    id: id(),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    batchId: uuid().references(() => batches.id),
+    kind: alertKindEnum().notNull(),
+    dedupeKey: text().notNull(),
+    // Words and figures for the message: stage, limit, deadline, counts.
+    detail: jsonb().$type<Record<string, unknown>>().notNull().default(sql`'{}'::jsonb`),
+    deadlineAt: at(),
+    createdAt: createdAt(),
+    acknowledgedAt: at(),
+    acknowledgedBy: uuid().references(() => users.id),
+    // The condition cleared (a reading came, the batch is back on track or ended): no more escalation.
+    resolvedAt: at(),
+  },
+  (t) => [uniqueIndex().on(t.siteId, t.kind, t.dedupeKey), index().on(t.siteId, t.createdAt), index().on(t.batchId)],
+);
+
+// Each e-mail an event sends: level 0 to the first recipient, one more level per escalation.
+export const alertDeliveries = pgTable(
+  "alert_deliveries",
+  {
+    id: id(),
+    eventId: uuid()
+      .notNull()
+      .references(() => alertEvents.id),
+    level: integer().notNull(),
+    userId: uuid()
+      .notNull()
+      .references(() => users.id),
+    email: text().notNull(),
+    status: deliveryStatusEnum().notNull().default("queued"),
+    attempts: integer().notNull().default(0),
+    lastError: text(),
+    claimedAt: at(),
+    sentAt: at(),
+    // Which worker process sent it (host:pid), for the alerts screen and the two-worker test.
+    sentBy: text(),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex().on(t.eventId, t.level, t.userId), index().on(t.status)],
 );

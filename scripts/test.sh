@@ -40,7 +40,7 @@ else
 fi
 
 say "Unit tests…"
-node_modules/.bin/vitest run --project unit --reporter=default --reporter=json \
+node_modules/.bin/vitest run --project unit ${CW_TEST_FILTER:-} --reporter=default --reporter=json \
   --outputFile.json="$RESULTS/unit.json" || true
 
 say "Building the app…"
@@ -56,11 +56,13 @@ else
   wait_for_url "$APP_URL/healthz" 30 || { tail -n 40 "$RESULTS/app.log"; die "the app did not start"; }
 
   say "Integration tests…"
-  node_modules/.bin/vitest run --project integration --reporter=default --reporter=json \
+  node_modules/.bin/vitest run --project integration ${CW_TEST_FILTER:-} --reporter=default --reporter=json \
     --outputFile.json="$RESULTS/integration.json" || true
 
-  say "End-to-end tests (Chromium)…"
-  PLAYWRIGHT_JSON_OUTPUT_NAME="$RESULTS/e2e.json" node_modules/.bin/playwright test --reporter=list,json || true
+  if [ -z "${CW_SKIP_E2E:-}" ]; then
+    say "End-to-end tests (Chromium)…"
+    PLAYWRIGHT_JSON_OUTPUT_NAME="$RESULTS/e2e.json" node_modules/.bin/playwright test ${CW_E2E_FILTER:-} --reporter=list,json || true
+  fi
 fi
 
 node scripts/test-summary.mjs "$RESULTS" || status=1

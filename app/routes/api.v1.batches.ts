@@ -38,7 +38,7 @@ export async function action({ request }: Route.ActionArgs) {
   if (!parsed.success) return data({ errors: apiErrors(parsed.error) }, { status: 400 });
   const result = await startBatch(site, entrantOf(caller), parsed.data);
   if (!result.ok) return data({ errors: result.errors }, { status: result.status });
-  const a = await assess(site, result.value.id);
+  const a = result.assessment ?? (await assess(site, result.value.id));
   return data(
     { batch: { id: result.value.id, siteId: site.id, lotCode: result.value.lotCode, state: result.value.state, startedAt: result.value.startedAt.toISOString(), startNotCaptured: result.value.startNotCaptured }, warnings: result.warnings, ...assessmentJson(a!) },
     { status: result.created ? 201 : 200 },

@@ -180,7 +180,8 @@ export async function startBatch(site: Site, who: Entrant, input: StartBatchInpu
     const [b] = await db.select().from(batches).where(and(eq(batches.siteId, site.id), eq(batches.clientId, input.clientId)));
     return { ok: true, value: b, created: false, warnings: [] };
   }
-  return { ok: true, value: batch, created: true, warnings };
+  const assessment = await settleState(site, batch.id, now);
+  return { ok: true, value: batch, created: true, warnings, assessment };
 }
 
 export async function recordReading(site: Site, who: Entrant, batchId: string, input: ReadingInput, now = Date.now()): Promise<Outcome<typeof readings.$inferSelect>> {
@@ -285,7 +286,7 @@ export async function takeCorrectiveAction(site: Site, who: Entrant, batchId: st
     const changes =
       input.kind === "change_method"
         ? { method: input.method, lid: input.lid, equipmentId: input.equipmentId ?? null }
-        : { state: "discarded" as const, endedAt: new Date(now), quantityKg: input.quantityKg ?? batch.quantityKg };
+        : { state: "discarded" as const, endedAt: new Date(now), quantityKg: input.quantityKg ?? batch.quantityKg, nextReadingDueAt: null };
     const [changed] = await tx.update(batches).set(changes).where(and(eq(batches.id, batch.id), eq(batches.state, "cooling"))).returning({ id: batches.id });
     if (!changed) throw new BatchEnded();
     await recordAudit(tx, { actor: who.actor, organisationId: site.organisationId, siteId: site.id, action: `batch.${kind}`, entity: "batch", entityId: batch.id, data: { correctiveActionId: ca.id, ...detail } });
@@ -299,7 +300,9 @@ export async function takeCorrectiveAction(site: Site, who: Entrant, batchId: st
     const [ca] = await db.select().from(correctiveActions).where(and(eq(correctiveActions.batchId, batch.id), eq(correctiveActions.clientId, input.clientId)));
     return { ok: true, value: ca, created: false, warnings: [] };
   }
-  return { ok: true, value: row, created: true, warnings: [] };
+  // A move changes the prediction: the review queue and the alerts see the new verdict at once.
+  const assessment = input.kind === "change_method" ? await settleState(site, batch.id, now) : undefined;
+  return { ok: true, value: row, created: true, warnings: [], assessment };
 }
 
 /** The readings that count: a correction stands in place of the reading it corrects. */
@@ -363,10 +366,11 @@ function assessRows(
 }
 
 /** The state follows the record: cooled once the readings meet every stage, cooling again if a correction undoes that. */
-async function settleState(site: Site, batchId: string, now: number) {
+export async function settleState(site: Site, batchId: string, now: number) {
   const a = await assess(site, batchId, now);
   if (!a) return undefined;
   const state = a.evaluation.outcome === "passed" ? (a.evaluation.attempts.length > 1 ? "cooled_after_reheat" : "cooled") : "cooling";
+  await refreshSnapshot(site, batchId, a, now, state);
   await db.transaction(async (tx) => {
     const [b] = await tx
       .update(batches)
@@ -378,6 +382,32 @@ async function settleState(site: Site, batchId: string, now: number) {
     if (state !== "cooling") await learnFromBatch(tx, site, batchId, a);
   });
   return a;
+}
+
+/**
+ * The derived columns the review queue, the manager's home and the alerts read: the verdict, the
+ * earliest missed deadline and when the next reading is due. Refreshed after every entry and by the
+ * alert sweep; they are a cache of the assessment, never the record.
+ */
+export async function refreshSnapshot(site: Site, batchId: string, a: Assessment, now: number, state?: string) {
+  const current = a.evaluation.attempts.at(-1);
+  const last = a.evaluation.stages.length ? await lastReadingAt(batchId) : null;
+  const ended = state ? state !== "cooling" : false;
+  await db
+    .update(batches)
+    .set({
+      verdict: a.prediction.verdict,
+      assessedAt: new Date(now),
+      missedAt: current?.missedAt ? new Date(current.missedAt) : null,
+      nextReadingDueAt: ended || last === null ? null : new Date(last + site.readingIntervalMinutes * 60_000),
+      ...(ended ? { fittedLnS: a.prediction.calibration.readingsUsed >= 3 ? Math.log(a.prediction.calibration.s) : null } : {}),
+    })
+    .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+}
+
+async function lastReadingAt(batchId: string) {
+  const [r] = await db.select({ at: sql<Date>`max(${readings.takenAt})` }).from(readings).where(eq(readings.batchId, batchId));
+  return r?.at ? new Date(r.at).getTime() : null;
 }
 
 /**

@@ -16,8 +16,12 @@ export type SessionUser = {
 };
 
 // Who can do what, in one place. Admins hold every right at their sites.
-export const can: Record<"manageTeam" | "manageSite" | "setUpStation" | "manageOrganisation" | "viewSite", readonly Role[]> = {
+export const can: Record<"manageTeam" | "manageSite" | "setUpStation" | "manageOrganisation" | "viewSite" | "review" | "verify" | "manageAlerts", readonly Role[]> = {
   manageTeam: ["manager", "admin"],
+  // The review queue and batch records: QA reads them, managers act on them.
+  review: ["manager", "qa", "admin"],
+  verify: ["manager", "admin"],
+  manageAlerts: ["manager", "admin"],
   manageSite: ["manager", "admin"],
   setUpStation: ["manager", "admin"],
   manageOrganisation: ["admin"],

@@ -1,4 +1,10 @@
+import { reviewEn } from "./en-review";
+import { verifyEn } from "./en-verify";
+import { alertsEn } from "./en-alerts";
 export const en = {
+  ...reviewEn,
+  ...verifyEn,
+  ...alertsEn,
   app: {
     name: "Chillwright",
     tagline: "Cooling records that catch a failing batch while it can still be saved.",
@@ -9,6 +15,8 @@ export const en = {
       "Predictions are guidance. The probe reading is the record; your local code and your HACCP plan prevail.",
   },
   nav: {
+    review: "Review",
+    alerts: "Alerts",
     home: "Today",
     team: "Team",
     library: "Library",

@@ -1,6 +1,12 @@
+import { reviewEs } from "./es-review";
+import { verifyEs } from "./es-verify";
+import { alertsEs } from "./es-alerts";
 import type { Messages } from "./en";
 
 export const es: Messages = {
+  ...reviewEs,
+  ...verifyEs,
+  ...alertsEs,
   app: {
     name: "Chillwright",
     tagline: "Registros de enfriamiento que detectan un lote que va mal cuando todavía se puede salvar.",
@@ -11,6 +17,8 @@ export const es: Messages = {
       "Las predicciones son solo una guía. La lectura del termómetro es el registro; mandan tu normativa local y tu plan HACCP.",
   },
   nav: {
+    review: "Revisión",
+    alerts: "Alertas",
     home: "Hoy",
     team: "Equipo",
     library: "Biblioteca",
