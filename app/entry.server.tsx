@@ -4,7 +4,15 @@ import { randomBytes } from "node:crypto";
 import { PassThrough } from "node:stream";
 import { renderToPipeableStream, type RenderToPipeableStreamOptions } from "react-dom/server";
 import { ServerRouter, type EntryContext, type RouterContextProvider } from "react-router";
+import { startAlertWorker } from "./server/alert-worker.server";
+import { env } from "./server/env.server";
 import { contentSecurityPolicy } from "./server/security.server";
+
+// Every app process also works the alert queue and sweeps for deadlines (see alert-worker.server.ts),
+// so alerts fire on time with no page open. ALERT_WORKER=false leaves it to other processes.
+if (env.ALERT_WORKER) {
+  startAlertWorker().catch((e) => console.error("The alert worker did not start:", e));
+}
 
 export const streamTimeout = 5_000;
 

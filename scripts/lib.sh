@@ -139,6 +139,8 @@ wait_for_url() {
 
 start_maildev() {
   # $1 smtp port, $2 web port
+  local i
+  for i in 1 2 3 4 5 6 7 8 9 10; do port_free "$1" && break; sleep 0.5; done
   port_free "$1" || die "Port $1 (mail) is taken: stop what uses it and run again."
   "$ROOT/node_modules/.bin/maildev" --ip 127.0.0.1 --web-ip 127.0.0.1 -s "$1" -w "$2" --silent >"$DATA/maildev-$1.log" 2>&1 &
   STARTED_PIDS+=($!)

@@ -8,7 +8,8 @@ APP_PORT="${CHILLWRIGHT_TEST_PORT:-3101}"
 SMTP_PORT="${CHILLWRIGHT_TEST_SMTP_PORT:-1125}"
 MAIL_WEB_PORT="${CHILLWRIGHT_TEST_MAIL_WEB_PORT:-1180}"
 RESULTS="$ROOT/test-results"
-trap 'stop_started' EXIT
+# A test that stops and restarts maildev (SMTP outage) leaves the new one to this cleanup.
+trap 'stop_started; pkill -f "maildev --ip 127.0.0.1 --web-ip 127.0.0.1 -s $SMTP_PORT " 2>/dev/null || true' EXIT
 trap 'exit 130' INT TERM
 
 ensure_node_modules
@@ -28,6 +29,10 @@ export MAILDEV_URL="http://127.0.0.1:$MAIL_WEB_PORT"
 export MAIL_FROM="Chillwright test <no-reply@chillwright.test>"
 export TRUST_PROXY=1
 export NODE_ENV=production
+# Alerts on a short clock so the suites see sweeps, retries and escalations in seconds.
+export ALERT_SWEEP_SECONDS=1 ALERT_POLL_SECONDS=0.5 ALERT_RETRY_DELAY_SECONDS=1 ALERT_RETRY_LIMIT=12
+export SECOND_APP_URL="http://127.0.0.1:$((APP_PORT + 1))"
+export MAILDEV_SMTP_PORT="$SMTP_PORT" MAILDEV_WEB_PORT="$MAIL_WEB_PORT"
 node_modules/.bin/tsx db/migrate.ts
 node_modules/.bin/tsx db/seed.ts
 
@@ -53,7 +58,12 @@ else
   port_free "$APP_PORT" || die "Port $APP_PORT is taken (set CHILLWRIGHT_TEST_PORT)."
   HOST=127.0.0.1 PORT="$APP_PORT" node_modules/.bin/react-router-serve ./build/server/index.js >"$RESULTS/app.log" 2>&1 &
   STARTED_PIDS+=($!)
+  # A second app process: two alert workers share the queue, as in a deployment with two servers.
+  port_free "$((APP_PORT + 1))" || die "Port $((APP_PORT + 1)) is taken (set CHILLWRIGHT_TEST_PORT)."
+  HOST=127.0.0.1 PORT="$((APP_PORT + 1))" node_modules/.bin/react-router-serve ./build/server/index.js >"$RESULTS/app-2.log" 2>&1 &
+  STARTED_PIDS+=($!)
   wait_for_url "$APP_URL/healthz" 30 || { tail -n 40 "$RESULTS/app.log"; die "the app did not start"; }
+  wait_for_url "$SECOND_APP_URL/healthz" 30 || { tail -n 40 "$RESULTS/app-2.log"; die "the second app process did not start"; }
 
   say "Integration tests…"
   node_modules/.bin/vitest run --project integration ${CW_TEST_FILTER:-} --reporter=default --reporter=json \

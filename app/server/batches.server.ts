@@ -6,6 +6,7 @@ import { coolingMethodIds, PanFillSchema, panMaterialIds, panSizeIds } from "~/l
 import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
 import { getRuleSet } from "~/lib/rule-sets";
 import { toCelsius } from "~/lib/temperature";
+import { alertsAfterEntry } from "./alerts.server";
 import { recordAudit, type Actor } from "./audit.server";
 import { db } from "./db.server";
 
@@ -381,6 +382,8 @@ export async function settleState(site: Site, batchId: string, now: number) {
     await recordAudit(tx, { actor: { kind: "system", label: "rule evaluation" }, organisationId: site.organisationId, siteId: site.id, action: `batch.${state}`, entity: "batch", entityId: batchId });
     if (state !== "cooling") await learnFromBatch(tx, site, batchId, a);
   });
+  // An entry can put a batch off track (or show a stage missed) at once, without waiting for the sweep.
+  await alertsAfterEntry(site, batchId, a, now);
   return a;
 }
 

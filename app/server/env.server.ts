@@ -14,6 +14,14 @@ const EnvSchema = z.object({
   MAIL_FROM: z.string().default("Chillwright <no-reply@chillwright.local>"),
   TRUST_PROXY: z.stringbool().default(false),
   DB_POOL_MAX: z.coerce.number().int().positive().default(10),
+  // The alert worker runs inside each app process unless turned off; any number of processes may run it.
+  ALERT_WORKER: z.stringbool().default(true),
+  // How often the sweep looks for missed stages, overdue readings, escalations and digests.
+  ALERT_SWEEP_SECONDS: z.coerce.number().min(0.5).max(600).default(30),
+  ALERT_POLL_SECONDS: z.coerce.number().min(0.5).max(60).default(2),
+  // A failed send is retried with exponential back-off from this delay, up to ALERT_RETRY_LIMIT times.
+  ALERT_RETRY_DELAY_SECONDS: z.coerce.number().int().min(1).max(3600).default(10),
+  ALERT_RETRY_LIMIT: z.coerce.number().int().min(0).max(50).default(10),
   // Photos go to files under STORAGE_DIR unless S3_BUCKET names an S3-compatible bucket.
   STORAGE_DIR: z.string().min(1).default(".data/photos"),
   S3_ENDPOINT: z.url().optional(),

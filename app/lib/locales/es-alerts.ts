@@ -1,2 +1,79 @@
-// Strings of the alerts screens; spread into es.ts. Keys here must not clash with es.ts.
-export const alertsEs = {};
+import type { alertsEn } from "./en-alerts";
+
+// Textos de las alertas (correos y pantalla de alertas); se integran en es.ts.
+export const alertsEs: typeof alertsEn = {
+  alertMail: {
+    lot: "lote",
+    open: "Abrir el lote",
+    deadline: "Plazo: {{deadline}}",
+    acknowledge: "Abra el lote y confirme esta alerta cuando se haga cargo; hasta entonces pasa a la siguiente persona de la lista.",
+    escalatedPrefix: "[Escalada]",
+    escalated: "Nadie confirmó esta alerta, enviada primero a {{name}}; han pasado {{minutes}} min.",
+    off_track: {
+      subject: "Fuera de plazo: {{product}} (lote {{lot}}) probablemente no cumplirá la etapa {{stage}} — plazo {{deadline}}",
+      reason: "Se prevé que {{product}}, lote {{lot}} en {{site}}, no cumpla la etapa {{stage}} ({{limit}}).",
+      forecast: "El modelo prevé que el centro llegue a {{limit}} hacia las {{time}}; probabilidad de cumplir el plazo: {{pct}} %.",
+      suggestion: "Lo que ayudaría ahora: {{what}}.",
+    },
+    stage_missed: {
+      subject: "Etapa {{stage}} incumplida: {{product}} (lote {{lot}}) — el plazo era {{deadline}}",
+      reason: "{{product}}, lote {{lot}} en {{site}}, no tiene ninguna lectura igual o inferior a {{limit}} dentro del plazo de la etapa {{stage}}.",
+      next_reheat: "Siguiente paso: recalentar a 74 °C (165 °F) y volver a enfriar, o desechar el lote.",
+      next_discard: "Siguiente paso: desechar el lote (ya tuvo su recalentamiento).",
+    },
+    reading_overdue: {
+      subject: "Lectura atrasada: {{product}} (lote {{lot}}) — tocaba a las {{deadline}}",
+      reason: "{{product}}, lote {{lot}} en {{site}}, no tiene lecturas desde que tocaba tomarla.",
+      last: "Última lectura: {{time}}. Margen permitido: {{grace}} min.",
+    },
+    digest: {
+      subject: "{{countText}} registros de {{site}} esperan su firma ({{date}})",
+      intro: "Estos {{countText}} lotes terminados de {{site}} aún no están verificados:",
+      action: "Abrir la cola de revisión",
+    },
+  },
+  alerts: {
+    title: "Alertas",
+    intro: "Todas las alertas del centro, a quién se enviaron y si el correo llegó. Las envía una cola de trabajos en la base de datos, así que saltan aunque no haya ninguna página abierta.",
+    kind: {
+      off_track: "Lote fuera de plazo",
+      stage_missed: "Etapa incumplida",
+      reading_overdue: "Lectura atrasada",
+      verification_digest: "Resumen diario de verificación",
+    },
+    none: "Aún no hay alertas.",
+    batch: "Lote",
+    raised: "Emitida",
+    deadline: "Plazo",
+    deliveries: "Correos",
+    noRecipient: "No hay a quién enviarla: añada destinatarios abajo.",
+    status: { queued: "en cola", sending: "enviando", retrying: "reintentando", sent: "enviado", failed: "fallido" },
+    attempts: "{{count}} intentos",
+    level: "nivel {{level}}",
+    lastError: "Último error: {{error}}",
+    acknowledged: "Confirmada por {{name}} a las {{time}}",
+    resolved: "Resuelta a las {{time}}",
+    acknowledge: "Confirmar",
+    retry: "Enviar de nuevo",
+    open: "Abrir",
+    filterAll: "Todas",
+    filterOpen: "Pendientes",
+    filterFailed: "Correo fallido",
+    recipients: "Quién recibe cada alerta",
+    recipientsHelp: "La primera persona recibe la alerta; si nadie la confirma dentro del tiempo de escalado, la recibe la siguiente, y así sucesivamente. Sin lista, la reciben los encargados del centro por orden alfabético.",
+    position: "Orden",
+    notListed: "fuera de la lista",
+    save: "Guardar listas",
+    saved: "Guardado.",
+    timing: "Tiempos",
+    escalateAfter: "Escalar una alerta sin confirmar tras (minutos)",
+    digestHour: "Enviar el resumen de verificación a las (hora del centro, 0–23)",
+    saveTiming: "Guardar tiempos",
+    onBatch: "Alertas de este lote",
+    ackThanks: "Confirmada: se detuvo el escalado.",
+    errors: {
+      unknownPerson: "Alguien de esa lista no puede recibir esta alerta en este centro.",
+      duplicatePosition: "Dos personas tienen el mismo puesto en una lista.",
+    },
+  },
+};

@@ -1,0 +1,345 @@
+import { and, asc, eq, inArray, isNull, lt, sql } from "drizzle-orm";
+import { alertDeliveries, alertEvents, alertRecipients, batches, memberships, products, sites, users } from "~db/schema";
+import type { Assessment } from "~/lib/engine/assess";
+import { recordAudit } from "./audit.server";
+import { listActive, refreshSnapshot } from "./batches.server";
+import { db, pool } from "./db.server";
+
+export type AlertKind = (typeof alertEvents.$inferSelect)["kind"];
+export const alertKinds: AlertKind[] = ["off_track", "stage_missed", "reading_overdue", "verification_digest"];
+type Site = typeof sites.$inferSelect;
+
+/** Set by the worker when this process runs one, so a new delivery is queued at once (the sweep catches the rest). */
+let enqueue: ((deliveryIds: string[]) => Promise<void>) | null = null;
+export function setEnqueue(fn: typeof enqueue) {
+  enqueue = fn;
+}
+
+/**
+ * Who gets an alert kind at a site, in escalation order: the site's own list when it has one,
+ * otherwise its active managers (then administrators) by name. Only people still active and still
+ * members of the site with a role that may act on alerts.
+ */
+export async function recipientsFor(siteId: string, kind: AlertKind) {
+  const eligible = await db
+    .select({ id: users.id, name: users.name, email: users.email, language: users.language, role: memberships.role })
+    .from(memberships)
+    .innerJoin(users, eq(users.id, memberships.userId))
+    .where(and(eq(memberships.siteId, siteId), eq(users.active, true), inArray(memberships.role, kind === "verification_digest" ? ["manager", "admin", "qa"] : ["manager", "admin"])))
+    .orderBy(asc(users.name));
+  const listed = await db.select().from(alertRecipients).where(and(eq(alertRecipients.siteId, siteId), eq(alertRecipients.kind, kind))).orderBy(asc(alertRecipients.position));
+  if (listed.length) return listed.map((l) => eligible.find((e) => e.id === l.userId)).filter((e) => e !== undefined);
+  const managers = eligible.filter((e) => e.role === "manager");
+  return managers.length ? managers : eligible.filter((e) => e.role === "admin");
+}
+
+/**
+ * Raises an event once: the unique (site, kind, key) makes a second sweep, a second worker or a
+ * retried request find it already there. The first recipient (every recipient, for a digest) gets a
+ * delivery in the same transaction; escalation adds the next ones later.
+ */
+export async function raiseEvent(site: Site, input: { kind: AlertKind; key: string; batchId: string | null; detail: Record<string, unknown>; deadlineAt: number | null }) {
+  const recipients = await recipientsFor(site.id, input.kind);
+  const created = await db.transaction(async (tx) => {
+    const [ev] = await tx
+      .insert(alertEvents)
+      .values({ siteId: site.id, batchId: input.batchId, kind: input.kind, dedupeKey: input.key, detail: input.detail, deadlineAt: input.deadlineAt === null ? null : new Date(input.deadlineAt) })
+      .onConflictDoNothing()
+      .returning();
+    if (!ev) return null;
+    const first = input.kind === "verification_digest" ? recipients : recipients.slice(0, 1);
+    const ds = first.length
+      ? await tx.insert(alertDeliveries).values(first.map((r) => ({ eventId: ev.id, level: 0, userId: r.id, email: r.email }))).onConflictDoNothing().returning({ id: alertDeliveries.id })
+      : [];
+    await recordAudit(tx, { actor: { kind: "system", label: "alerts" }, organisationId: site.organisationId, siteId: site.id, action: `alert.${input.kind}`, entity: "alert_event", entityId: ev.id, data: { batchId: input.batchId, key: input.key, to: first.map((r) => r.id) } });
+    return { event: ev, deliveries: ds.map((d) => d.id) };
+  });
+  if (created?.deliveries.length && enqueue) await enqueue(created.deliveries).catch(() => undefined);
+  return created?.event ?? null;
+}
+
+/** Marks the open events of a batch resolved when their condition has cleared (no more escalation). */
+async function resolve(batchId: string, kinds: AlertKind[], keep: string[], now: number) {
+  await db
+    .update(alertEvents)
+    .set({ resolvedAt: new Date(now) })
+    .where(
+      and(
+        eq(alertEvents.batchId, batchId),
+        inArray(alertEvents.kind, kinds),
+        isNull(alertEvents.resolvedAt),
+        keep.length ? sql`${alertEvents.dedupeKey} NOT IN (${sql.join(keep.map((k) => sql`${k}`), sql`, `)})` : sql`true`,
+      ),
+    );
+}
+
+/**
+ * What a batch's assessment raises now: off track (the model says a stage will be missed), a missed
+ * stage (the record says so), an overdue reading (past the site's interval plus its grace). Called
+ * after every entry and by the sweep; each event fires once per attempt and stage (per due time for
+ * readings), and clears when its condition does.
+ */
+export async function alertsForBatch(
+  site: Site,
+  batch: { id: string; state: string; lotCode: string },
+  product: string,
+  a: Assessment,
+  lastReadingAt: number | null,
+  now: number,
+) {
+  const attempt = a.evaluation.attempts.length;
+  const raised: string[] = [];
+  const base = { product, lotCode: batch.lotCode, attempt };
+  if (batch.state !== "cooling") {
+    await resolve(batch.id, ["off_track", "stage_missed", "reading_overdue"], [], now);
+    return raised;
+  }
+  // The record first: a missed stage is a fact, not a forecast.
+  const missed = a.evaluation.stages.filter((s) => s.status === "missed");
+  for (const s of missed) {
+    const key = `${batch.id}:a${attempt}:s${s.stage}`;
+    const ev = await raiseEvent(site, { kind: "stage_missed", key, batchId: batch.id, deadlineAt: s.deadline, detail: { ...base, stage: s.stage, limit: s.limit, nextStep: a.evaluation.nextStep } });
+    if (ev) raised.push(ev.id);
+  }
+  const missedKeys = missed.map((s) => `${batch.id}:a${attempt}:s${s.stage}`);
+  if (a.evaluation.nextStep === null) await resolve(batch.id, ["stage_missed"], missedKeys, now);
+
+  // The forecast: the first open stage the model expects to miss.
+  const offKeys: string[] = [];
+  if (a.prediction.verdict === "behind" && missed.length === 0) {
+    const i = a.prediction.stages.findIndex((p) => p.probability !== null && p.probability < 0.5);
+    const p = a.prediction.stages[i];
+    const stage = a.evaluation.stages[i];
+    if (p && stage) {
+      const key = `${batch.id}:a${attempt}:s${stage.stage}`;
+      offKeys.push(key);
+      const best = a.prediction.alternatives.find((w) => w.verdict !== "behind");
+      const ev = await raiseEvent(site, {
+        kind: "off_track",
+        key,
+        batchId: batch.id,
+        deadlineAt: stage.deadline ?? (p.deadlineS === null ? null : a.originAt + p.deadlineS * 1000),
+        detail: {
+          ...base,
+          stage: stage.stage,
+          limit: stage.limit,
+          predictedAt: p.reachS === null ? null : a.originAt + p.reachS * 1000,
+          probability: p.probability,
+          suggestion: best ? best.id : null,
+        },
+      });
+      if (ev) raised.push(ev.id);
+    }
+  }
+  await resolve(batch.id, ["off_track"], offKeys, now);
+
+  // The routine: a reading is due every interval; past the grace it is overdue.
+  const overdueKeys: string[] = [];
+  if (lastReadingAt !== null) {
+    const due = lastReadingAt + site.readingIntervalMinutes * 60_000;
+    if (now > due + site.overdueGraceMinutes * 60_000) {
+      const key = `${batch.id}:due${due}`;
+      overdueKeys.push(key);
+      const ev = await raiseEvent(site, { kind: "reading_overdue", key, batchId: batch.id, deadlineAt: due, detail: { ...base, lastReadingAt, graceMinutes: site.overdueGraceMinutes } });
+      if (ev) raised.push(ev.id);
+    }
+  }
+  await resolve(batch.id, ["reading_overdue"], overdueKeys, now);
+  return raised;
+}
+
+/** After an entry through the station or the API: refresh nothing twice, raise what the entry shows. */
+export async function alertsAfterEntry(site: Site, batchId: string, a: Assessment | undefined, now = Date.now()) {
+  if (!a) return;
+  const [row] = await db
+    .select({ id: batches.id, state: batches.state, lotCode: batches.lotCode, product: products.name, last: sql<Date | null>`(select max(taken_at) from readings r where r.batch_id = ${batches.id})` })
+    .from(batches)
+    .innerJoin(products, eq(products.id, batches.productId))
+    .where(eq(batches.id, batchId));
+  if (!row) return;
+  await alertsForBatch(site, row, row.product, a, row.last ? new Date(row.last).getTime() : null, now).catch((e) => console.error("alerts after entry:", e));
+}
+
+/** Local calendar date and hour of an instant in a time zone. */
+export function localDateHour(ms: number, timeZone: string) {
+  const parts = Object.fromEntries(
+    new Intl.DateTimeFormat("en-CA", { timeZone, year: "numeric", month: "2-digit", day: "2-digit", hour: "2-digit", hourCycle: "h23" }).formatToParts(ms).map((p) => [p.type, p.value]),
+  );
+  return { date: `${parts.year}-${parts.month}-${parts.day}`, hour: Number(parts.hour) };
+}
+
+/**
+ * SQL for "this batch has ended and its latest signature does not cover its record": no verification,
+ * or the counts of readings and corrective actions have grown since.
+ */
+export const awaitingVerificationSql = sql`(${batches.state} <> 'cooling' AND NOT EXISTS (
+  SELECT 1 FROM verifications v
+  WHERE v.batch_id = ${batches.id}
+    AND v.readings_covered = (SELECT count(*) FROM readings r WHERE r.batch_id = ${batches.id})
+    AND v.actions_covered = (SELECT count(*) FROM corrective_actions c WHERE c.batch_id = ${batches.id})))`;
+
+/** Once a day, at the site's digest hour (its own time zone): the records waiting for a signature. */
+async function digests(now: number) {
+  const all = await db.select().from(sites);
+  for (const site of all) {
+    const { date, hour } = localDateHour(now, site.timeZone);
+    if (hour < site.digestHour) continue;
+    const waiting = await db
+      .select({ id: batches.id, lotCode: batches.lotCode, product: products.name, endedAt: batches.endedAt, state: batches.state })
+      .from(batches)
+      .innerJoin(products, eq(products.id, batches.productId))
+      .where(and(eq(batches.siteId, site.id), awaitingVerificationSql))
+      .orderBy(asc(batches.endedAt))
+      .limit(51);
+    if (!waiting.length) continue;
+    await raiseEvent(site, {
+      kind: "verification_digest",
+      key: date,
+      batchId: null,
+      deadlineAt: null,
+      detail: { date, count: waiting.length > 50 ? "50+" : waiting.length, batches: waiting.slice(0, 20).map((w) => ({ id: w.id, product: w.product, lotCode: w.lotCode, endedAt: w.endedAt?.getTime() ?? null, state: w.state })) },
+    });
+  }
+}
+
+/**
+ * An alert nobody acknowledged, whose last e-mail went out (or finally failed) at least the site's
+ * escalation delay ago, goes to the next recipient on the list. One level at a time; never for a
+ * digest, an acknowledged or a resolved event.
+ */
+async function escalate(now: number) {
+  const open = await db
+    .select({ event: alertEvents, site: sites })
+    .from(alertEvents)
+    .innerJoin(sites, eq(sites.id, alertEvents.siteId))
+    .where(and(isNull(alertEvents.acknowledgedAt), isNull(alertEvents.resolvedAt), sql`${alertEvents.kind} <> 'verification_digest'`, sql`${alertEvents.createdAt} > ${new Date(now - 2 * 86_400_000)}`));
+  if (!open.length) return;
+  const ds = await db.select().from(alertDeliveries).where(inArray(alertDeliveries.eventId, open.map((o) => o.event.id)));
+  for (const { event, site } of open) {
+    const mine = ds.filter((d) => d.eventId === event.id);
+    if (!mine.length) continue;
+    const level = Math.max(...mine.map((d) => d.level));
+    const top = mine.filter((d) => d.level === level);
+    const since = Math.max(...top.map((d) => (d.status === "sent" ? d.sentAt!.getTime() : d.status === "failed" ? d.createdAt.getTime() : Infinity)));
+    if (!(now - since >= site.escalateAfterMinutes * 60_000)) continue;
+    const list = await recipientsFor(site.id, event.kind);
+    const already = new Set(mine.map((d) => d.userId));
+    const next = list.find((r, i) => i > level - 1 && !already.has(r.id));
+    if (!next) continue;
+    const [d] = await db.transaction(async (tx) => {
+      const rows = await tx.insert(alertDeliveries).values({ eventId: event.id, level: level + 1, userId: next.id, email: next.email }).onConflictDoNothing().returning({ id: alertDeliveries.id });
+      if (rows.length)
+        await recordAudit(tx, { actor: { kind: "system", label: "alerts" }, organisationId: site.organisationId, siteId: site.id, action: "alert.escalated", entity: "alert_event", entityId: event.id, data: { level: level + 1, to: next.id } });
+      return rows;
+    });
+    if (d && enqueue) await enqueue([d.id]).catch(() => undefined);
+  }
+}
+
+/**
+ * Deliveries that never reached the queue (the process stopped between the two) are queued again;
+ * one left "sending" by a process that died mid-send is marked failed rather than sent twice, and
+ * shows on the alerts screen for a person to retry.
+ */
+async function recover(now: number) {
+  const stale = await db
+    .select({ id: alertDeliveries.id })
+    .from(alertDeliveries)
+    .where(and(eq(alertDeliveries.status, "queued"), lt(alertDeliveries.createdAt, new Date(now - 30_000))));
+  if (stale.length && enqueue) await enqueue(stale.map((s) => s.id)).catch(() => undefined);
+  await db
+    .update(alertDeliveries)
+    .set({ status: "failed", lastError: "The worker stopped while sending; the outcome is unknown. Retry to send again." })
+    .where(and(eq(alertDeliveries.status, "sending"), lt(alertDeliveries.claimedAt, new Date(now - 10 * 60_000))));
+}
+
+const SWEEP_LOCK = 7_734_201;
+
+/**
+ * One pass over everything time can change: active batches (the clock runs on without any entry),
+ * digests, escalations and stranded deliveries. Any number of processes may call it; a session-level
+ * advisory lock lets one sweep at a time, and the unique keys keep even concurrent sweeps from
+ * raising an event twice.
+ */
+export async function sweep(now = Date.now()) {
+  const client = await pool.connect();
+  try {
+    const { rows } = await client.query<{ ok: boolean }>("SELECT pg_try_advisory_lock($1) AS ok", [SWEEP_LOCK]);
+    if (!rows[0]?.ok) return { swept: false, batches: 0 };
+    try {
+      const active = await db.selectDistinct({ siteId: batches.siteId }).from(batches).where(eq(batches.state, "cooling"));
+      const siteRows = active.length ? await db.select().from(sites).where(inArray(sites.id, active.map((a) => a.siteId))) : [];
+      const list = await listActive(siteRows, now);
+      for (const row of list) {
+        const site = siteRows.find((s) => s.id === row.batch.siteId)!;
+        await refreshSnapshot(site, row.batch.id, row.assessment, now);
+        const last = row.readings.length ? Math.max(...row.readings.map((r) => r.takenAt.getTime())) : null;
+        await alertsForBatch(site, row.batch, row.product.name, row.assessment, last, now);
+      }
+      // Batches that ended since the last pass: their open events are settled.
+      await db
+        .update(alertEvents)
+        .set({ resolvedAt: new Date(now) })
+        .where(and(isNull(alertEvents.resolvedAt), sql`${alertEvents.batchId} IN (SELECT id FROM batches WHERE state <> 'cooling')`));
+      await digests(now);
+      await escalate(now);
+      await recover(now);
+      return { swept: true, batches: list.length };
+    } finally {
+      await client.query("SELECT pg_advisory_unlock($1)", [SWEEP_LOCK]);
+    }
+  } finally {
+    client.release();
+  }
+}
+
+/** A person says they have the alert in hand: escalation stops. Recorded once, with who and when. */
+export async function acknowledge(site: Site, userId: string, eventId: string, now = Date.now()) {
+  return db.transaction(async (tx) => {
+    const [ev] = await tx
+      .update(alertEvents)
+      .set({ acknowledgedAt: new Date(now), acknowledgedBy: userId })
+      .where(and(eq(alertEvents.id, eventId), eq(alertEvents.siteId, site.id), isNull(alertEvents.acknowledgedAt)))
+      .returning();
+    if (!ev) {
+      const [existing] = await tx.select().from(alertEvents).where(and(eq(alertEvents.id, eventId), eq(alertEvents.siteId, site.id)));
+      return existing ?? null;
+    }
+    await recordAudit(tx, { actor: { kind: "user", userId }, organisationId: site.organisationId, siteId: site.id, action: "alert.acknowledged", entity: "alert_event", entityId: ev.id });
+    return ev;
+  });
+}
+
+/** A delivery that finally failed (or whose outcome is unknown) is queued again by a person. */
+export async function retryDelivery(site: Site, userId: string, deliveryId: string) {
+  const [d] = await db.transaction(async (tx) => {
+    const rows = await tx
+      .update(alertDeliveries)
+      .set({ status: "queued", lastError: null })
+      .where(and(eq(alertDeliveries.id, deliveryId), eq(alertDeliveries.status, "failed"), sql`${alertDeliveries.eventId} IN (SELECT id FROM alert_events WHERE site_id = ${site.id})`))
+      .returning({ id: alertDeliveries.id });
+    if (rows.length) await recordAudit(tx, { actor: { kind: "user", userId }, organisationId: site.organisationId, siteId: site.id, action: "alert.retried", entity: "alert_delivery", entityId: deliveryId });
+    return rows;
+  });
+  if (d && enqueue) await enqueue([d.id]).catch(() => undefined);
+  return !!d;
+}
+
+/** Replaces a kind's recipient list (in order). Only people who may receive that kind at the site. */
+export async function setRecipients(site: Site, userId: string, kind: AlertKind, ids: string[]) {
+  const eligible = await db
+    .select({ id: users.id })
+    .from(memberships)
+    .innerJoin(users, eq(users.id, memberships.userId))
+    .where(and(eq(memberships.siteId, site.id), eq(users.active, true), inArray(memberships.role, kind === "verification_digest" ? ["manager", "admin", "qa"] : ["manager", "admin"])));
+  const ok = new Set(eligible.map((e) => e.id));
+  const unique = [...new Set(ids)];
+  if (unique.some((id) => !ok.has(id))) return false;
+  await db.transaction(async (tx) => {
+    await tx.delete(alertRecipients).where(and(eq(alertRecipients.siteId, site.id), eq(alertRecipients.kind, kind)));
+    if (unique.length) await tx.insert(alertRecipients).values(unique.map((id, i) => ({ siteId: site.id, kind, userId: id, position: i + 1 })));
+    await recordAudit(tx, { actor: { kind: "user", userId }, organisationId: site.organisationId, siteId: site.id, action: "alert.recipients_set", entity: "site", entityId: site.id, data: { kind, recipients: unique } });
+  });
+  return true;
+}
+
