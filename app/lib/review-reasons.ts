@@ -26,3 +26,12 @@ export type ReasonCode = (typeof reviewReasons)[number]["code"];
 export type ReasonShape = (typeof reviewReasons)[number]["shape"];
 
 export const getReason = (code: ReasonCode) => reviewReasons.find((r) => r.code === code)!;
+
+/** How the queue can be sorted and paged, and what each starts from (shared by the loader and its links). */
+export const sortKeys = ["severity", "started", "product", "due"] as const;
+export type SortKey = (typeof sortKeys)[number];
+export const pageSizes = [10, 25, 50] as const;
+export const firstDir: Record<SortKey, "asc" | "desc"> = { severity: "desc", started: "desc", product: "asc", due: "asc" };
+
+export type QueueQuery = { sort: SortKey; dir: "asc" | "desc"; reason: ReasonCode | null; q: string; page: number; size: (typeof pageSizes)[number] };
+export const defaultQueueQuery: QueueQuery = { sort: "severity", dir: "desc", reason: null, q: "", page: 1, size: 25 };

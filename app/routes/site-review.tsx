@@ -5,9 +5,9 @@ import { Form, Link } from "react-router";
 import { countdown, verdictStyle } from "~/components/batch-card";
 import { Notice } from "~/components/frame";
 import { ReasonBadge, ReasonShapeIcon } from "~/components/reason-badge";
-import { reviewReasons, type ReasonCode } from "~/lib/review-reasons";
+import { defaultQueueQuery as defaults, firstDir, pageSizes, reviewReasons, type QueueQuery, type ReasonCode, type SortKey } from "~/lib/review-reasons";
 import { can, requireRole } from "~/server/guards.server";
-import { getReviewQueue, pageSizes, parseQueueQuery, type QueueQuery, type QueueRow, type SortKey } from "~/server/review-queue.server";
+import { getReviewQueue, parseQueueQuery, type QueueRow } from "~/server/review-queue.server";
 import type { Route } from "./+types/site-review";
 
 export const meta: Route.MetaFunction = () => [{ title: "Review · Chillwright" }];
@@ -20,8 +20,6 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return { site: { id: site.id, name: site.name, timeZone: site.timeZone }, query, ignored, now: now.getTime(), ...queue };
 }
 
-const defaults: QueueQuery = { sort: "severity", dir: "desc", reason: null, q: "", page: 1, size: 25 };
-const firstDir: Record<SortKey, "asc" | "desc"> = { severity: "desc", started: "desc", product: "asc", due: "asc" };
 
 /** The queue's address with some of its query changed; defaults are left out so links stay short. */
 function hrefWith(query: QueueQuery, change: Partial<QueueQuery>) {

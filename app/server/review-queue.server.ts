@@ -1,7 +1,7 @@
 import { and, asc, desc, eq, sql, type SQL } from "drizzle-orm";
 import { z } from "zod";
 import { actionConfirmations, batches, correctiveActions, products, readings, sites, verifications } from "~db/schema";
-import { reviewReasons, type ReasonCode } from "~/lib/review-reasons";
+import { defaultQueueQuery, firstDir, pageSizes, reviewReasons, sortKeys, type QueueQuery, type ReasonCode } from "~/lib/review-reasons";
 import { db } from "./db.server";
 
 /**
@@ -31,10 +31,6 @@ export function reasonConditions(now: Date): Record<ReasonCode, SQL<boolean>> {
   };
 }
 
-export const sortKeys = ["severity", "started", "product", "due"] as const;
-export type SortKey = (typeof sortKeys)[number];
-export const pageSizes = [10, 25, 50] as const;
-const defaultDir: Record<SortKey, "asc" | "desc"> = { severity: "desc", started: "desc", product: "asc", due: "asc" };
 
 // Each parameter is checked on its own, so one bad value falls back (and says so) without losing the rest.
 const QueueParamSchemas = {
@@ -47,8 +43,6 @@ const QueueParamSchemas = {
 };
 export type QueueParam = keyof typeof QueueParamSchemas;
 
-export type QueueQuery = { sort: SortKey; dir: "asc" | "desc"; reason: ReasonCode | null; q: string; page: number; size: (typeof pageSizes)[number] };
-
 /** The queue's query from the page's search parameters; `ignored` names each one that was not usable. */
 export function parseQueueQuery(params: URLSearchParams): { query: QueueQuery; ignored: QueueParam[] } {
   const ignored: QueueParam[] = [];
@@ -60,14 +54,14 @@ export function parseQueueQuery(params: URLSearchParams): { query: QueueQuery; i
     ignored.push(key);
     return undefined;
   };
-  const sort = read("sort") ?? "severity";
+  const sort = read("sort") ?? defaultQueueQuery.sort;
   const query: QueueQuery = {
     sort,
-    dir: read("dir") ?? defaultDir[sort],
+    dir: read("dir") ?? firstDir[sort],
     reason: read("reason") ?? null,
     q: read("q") ?? "",
     page: read("page") ?? 1,
-    size: read("size") ?? 25,
+    size: read("size") ?? defaultQueueQuery.size,
   };
   return { query, ignored };
 }
