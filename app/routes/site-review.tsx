@@ -38,8 +38,11 @@ function hrefWith(query: QueueQuery, change: Partial<QueueQuery>) {
 const features = tableFeatures({ rowSortingFeature, rowPaginationFeature });
 const column = createColumnHelper<typeof features, QueueRow>();
 
-function when(ms: number, timeZone: string, lang: string) {
-  return new Intl.DateTimeFormat(lang, { timeZone, weekday: "short", hour: "2-digit", minute: "2-digit" }).format(ms);
+/** A clock time, with the weekday when it is not today (in the site's time zone). */
+function when(ms: number, now: number, timeZone: string, lang: string) {
+  const day = (v: number) => new Intl.DateTimeFormat("en-CA", { timeZone, dateStyle: "short" }).format(v);
+  const sameDay = day(ms) === day(now);
+  return new Intl.DateTimeFormat(lang, { timeZone, weekday: sameDay ? undefined : "short", hour: "2-digit", minute: "2-digit" }).format(ms);
 }
 
 export default function SiteReview({ loaderData }: Route.ComponentProps) {
@@ -91,7 +94,7 @@ export default function SiteReview({ loaderData }: Route.ComponentProps) {
         column.accessor("startedAt", {
           id: "started",
           header: () => t("reviewQueue.columns.started"),
-          cell: ({ getValue }) => <span className="whitespace-nowrap">{when(getValue(), site.timeZone, lang)}</span>,
+          cell: ({ getValue }) => <span className="whitespace-nowrap">{when(getValue(), now, site.timeZone, lang)}</span>,
         }),
         column.accessor("nextReadingDueAt", {
           id: "due",
@@ -101,7 +104,7 @@ export default function SiteReview({ loaderData }: Route.ComponentProps) {
             if (due === null) return <span className="text-ink-soft">{t("reviewQueue.nothingDue")}</span>;
             return (
               <span className="whitespace-nowrap">
-                {when(due, site.timeZone, lang)}
+                {when(due, now, site.timeZone, lang)}
                 {due < now ? <span className="block text-sm font-bold text-ember">{t("reviewQueue.overdueBy", { time: countdown(now - due).replace("−", "") })}</span> : null}
               </span>
             );
@@ -197,7 +200,7 @@ export default function SiteReview({ loaderData }: Route.ComponentProps) {
               {table.getRowModel().rows.map((row) => (
                 <tr key={row.id} className="relative border-t-2 border-line hover:bg-frost" data-testid="queue-row">
                   {row.getAllCells().map((cell) => (
-                    <td key={cell.id} className="px-4 py-4 align-top">
+                    <td key={cell.id} className="px-3 py-4 align-top">
                       <table.FlexRender cell={cell} />
                     </td>
                   ))}

@@ -4,7 +4,7 @@ export const reviewEn = {
     missed_stage: "Missed a stage",
     off_track: "Predicted to miss",
     reading_overdue: "Reading overdue",
-    at_risk: "Cutting it close",
+    at_risk: "At risk",
     action_to_confirm: "Action to confirm",
     changed_after_signing: "Changed after signing",
     awaiting_verification: "Waiting for a signature",

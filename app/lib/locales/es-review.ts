@@ -6,7 +6,7 @@ export const reviewEs: typeof reviewEn = {
     missed_stage: "Etapa incumplida",
     off_track: "No llegará según la previsión",
     reading_overdue: "Lectura atrasada",
-    at_risk: "Muy justo",
+    at_risk: "En riesgo",
     action_to_confirm: "Acción por confirmar",
     changed_after_signing: "Cambiado tras la firma",
     awaiting_verification: "Pendiente de firma",
