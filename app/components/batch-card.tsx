@@ -2,7 +2,7 @@ import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import type { CardData } from "~/server/station-entry.server";
 
-const verdictStyle = {
+export const verdictStyle = {
   ahead: "border-pine bg-pine-light text-pine",
   tight: "border-amber bg-amber-light text-amber",
   behind: "border-ember bg-ember-light text-ember",

@@ -5,6 +5,7 @@ import { z } from "zod";
 import { CheckboxField, SelectField } from "~/components/controls";
 import { Field, Notice } from "~/components/frame";
 import { coolingMethodIds, coolingMethods, PanFillSchema, panSizes, type PanSize } from "~/lib/engine/equipment";
+import { learnedFactor } from "~/lib/equipment-learning";
 import { averageProperties, CompositionSchema, components, type Component } from "~/lib/engine/properties";
 import { fieldErrors } from "~/lib/forms";
 import { can, isUuid, notFound, requireRole } from "~/server/guards.server";
@@ -149,6 +150,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (editId && !editing) notFound();
   const done = url.searchParams.get("done");
   return {
+    siteId: site.id,
     siteName: site.name,
     products: library,
     editing: editing ?? null,
@@ -156,16 +158,6 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     done: doneMessages.includes(done as Done) ? (done as Done) : null,
     highlight: url.searchParams.get("id"),
   };
-}
-
-/**
- * The surface factor s = exp(mean ln s) and its spread. The spread is first order in the sd of ln s,
- * sd(s) ≈ s·sd(ln s), which is close for the tight spreads a unit reaches after a few batches.
- */
-function learnedFactor(e: { learnedLnS: number | null; learnedSd: number | null; learnedBatches: number }) {
-  if (e.learnedLnS === null || e.learnedBatches < 1) return null;
-  const factor = Math.exp(e.learnedLnS);
-  return { factor, spread: e.learnedSd === null ? null : factor * e.learnedSd, batches: e.learnedBatches };
 }
 
 type ActionResult = { intent: string; target?: string; values: Record<string, string>; errors: Record<string, string> };
@@ -404,7 +396,7 @@ export default function SiteLibrary({ loaderData, actionData }: Route.ComponentP
   const { t } = useTranslation();
   const names = useNames();
   const format = useFormat();
-  const { siteName, products, editing, equipment, done, highlight } = loaderData;
+  const { siteId, siteName, products, editing, equipment, done, highlight } = loaderData;
   const result = actionData as ActionResult | undefined;
   const busy = useNavigation().state !== "idle";
   const equipmentErrors = result?.intent === "addEquipment" ? result.errors : {};
@@ -499,7 +491,11 @@ export default function SiteLibrary({ loaderData, actionData }: Route.ComponentP
               <li key={e.id} aria-label={e.name} className={`rounded-2xl border-2 p-4 ${e.id === highlight ? "border-glacier" : "border-line"} ${e.active ? "" : "bg-frost"}`}>
                 <div className="flex flex-wrap items-start justify-between gap-3">
                   <div>
-                    <h3 className="text-lg font-extrabold">{e.name}</h3>
+                    <h3 className="text-lg font-extrabold">
+                      <Link to={`/sites/${siteId}/equipment/${e.id}`} className="text-glacier-dark underline underline-offset-4">
+                        {e.name}
+                      </Link>
+                    </h3>
                     <p className="text-base text-ink-soft">{names.method(e.method)}</p>
                   </div>
                   <StatusBadge active={e.active} />

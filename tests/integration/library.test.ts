@@ -173,7 +173,7 @@ describe("site library", () => {
     expect(res.status).toBe(302);
     const [added] = await db.select().from(equipment).where(and(eq(equipment.siteId, tenant.site.id), eq(equipment.name, "Blast chiller 2")));
     expect(added).toMatchObject({ method: "blast-chiller", active: true, learnedBatches: 0, learnedLnS: null });
-    expect(await read(await manager.get(libraryOf(tenant)))).toMatch(/Blast chiller 2<\/h3>[\s\S]*?not learned yet/);
+    expect(await read(await manager.get(libraryOf(tenant)))).toMatch(/>Blast chiller 2<\/a><\/h3>[\s\S]*?not learned yet/);
 
     expect((await manager.post(libraryOf(tenant), { intent: "renameEquipment", equipmentId: added.id, name: "Blast chiller by the door" })).status).toBe(302);
     expect((await manager.post(libraryOf(tenant), { intent: "retireEquipment", equipmentId: added.id })).status).toBe(302);

@@ -13,6 +13,8 @@ const pages: [string, Expect][] = [
   ["/sites/:site/library", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites/:site/station-setup", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites/:site/api-tokens", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
+  ["/sites/:site/review", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
+  ["/sites/:site/equipment/:walkIn", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
   ["/account", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
 ];
@@ -45,7 +47,7 @@ describe("role × route matrix", () => {
   for (const [pattern, expected] of pages) {
     for (const who of Object.keys(expected) as (keyof Expect)[]) {
       it(`GET ${pattern} answers ${who} with ${expected[who]}`, async () => {
-        const path = pattern.replace(":site", tenant.site.id);
+        const path = pattern.replace(":site", tenant.site.id).replace(":walkIn", tenant.walkIn.id);
         const res = await clients[who].get(path);
         expect(res.status).toBe(expected[who]);
         if (expected[who] === 302) expect(location(res)).toBe(`/signin?next=${encodeURIComponent(path)}`);
@@ -69,8 +71,8 @@ describe("role × route matrix", () => {
       return [...menu.matchAll(/<a [^>]*>([^<]+)<\/a>/g)].map((m) => m[1]);
     };
     expect(await nav("cook")).toEqual(["Today", "My account"]);
-    expect(await nav("qa")).toEqual(["Today", "My account"]);
-    expect(await nav("manager")).toEqual(["Today", "Team", "Library", "Site settings", "Set up station", "My account"]);
-    expect(await nav("admin")).toEqual(["Today", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"]);
+    expect(await nav("qa")).toEqual(["Today", "Review", "My account"]);
+    expect(await nav("manager")).toEqual(["Today", "Review", "Alerts", "Team", "Library", "Site settings", "Set up station", "My account"]);
+    expect(await nav("admin")).toEqual(["Today", "Review", "Alerts", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"]);
   });
 });
