@@ -44,10 +44,12 @@ export function BatchNotices({ batch, record, warnings = [] }: { batch: BatchVie
 export function StagesPanel({
   view,
   now,
+  whatIfs = true,
   whatIfAction,
 }: {
   view: Pick<BatchView, "record" | "prediction" | "timeZone">;
   now: number;
+  whatIfs?: boolean;
   whatIfAction?: (w: WhatIf) => React.ReactNode;
 }) {
   const { t, i18n } = useTranslation();
@@ -85,7 +87,7 @@ export function StagesPanel({
           );
         })}
       </ol>
-      {prediction.whatIfs.length ? (
+      {whatIfs && prediction.whatIfs.length ? (
         <div className="mt-5">
           <h3 className="font-extrabold">{t("batch.whatIfs")}</h3>
           <ul className="mt-2 grid gap-2">

@@ -1,6 +1,7 @@
 import { useTranslation } from "react-i18next";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { BatchHeading, BatchNotices, ChartSection, HistoryTable, StagesPanel } from "~/components/batch-view";
+import { CheckboxField } from "~/components/controls";
 import { Notice } from "~/components/frame";
 import { useLiveNow } from "~/components/use-live-now";
 import { fieldErrors } from "~/lib/forms";
@@ -39,6 +40,12 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 const btn = "btn-primary min-h-12 w-full";
+const statusStyle = {
+  "not-ended": "bg-frost text-ink-soft",
+  awaiting: "bg-glacier-light text-glacier-dark",
+  signed: "bg-pine-light text-pine",
+  "changed-after-signing": "bg-amber-light text-amber",
+} as const;
 
 export default function SiteBatch({ loaderData, actionData }: Route.ComponentProps) {
   const { t, i18n } = useTranslation();
@@ -58,11 +65,12 @@ export default function SiteBatch({ loaderData, actionData }: Route.ComponentPro
   };
   const errorFor = (intent: string, actionId = "") => (actionData && actionData.intent === intent && (intent === "sign" || actionData.actionId === actionId) ? errors : {});
   const signErrors = errorFor("sign");
+  const latest = review.signatures.at(-1);
   return (
     <div>
       <BatchHeading batch={batch}>
         <div className="flex flex-wrap items-center gap-3">
-          <span className="rounded-xl bg-glacier-light px-3 py-2 font-extrabold text-glacier-dark" data-testid="verification-status">
+          <span className={`rounded-xl px-3 py-2 font-extrabold ${statusStyle[review.status]}`} data-testid="verification-status">
             {t(`verify.status.${review.status}`)}
           </span>
           <Link to={`/sites/${siteId}/review`} className="btn-quiet min-h-12">
@@ -75,9 +83,9 @@ export default function SiteBatch({ loaderData, actionData }: Route.ComponentPro
       <BatchNotices batch={batch} record={record} />
 
       <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_26rem]">
-        <StagesPanel view={loaderData} now={now} />
+        <StagesPanel view={loaderData} now={now} whatIfs={batch.state === "cooling"} />
 
-        <section className="card" aria-labelledby="verification">
+        <section className="card self-start" aria-labelledby="verification">
           <h2 id="verification" className="mb-3 text-lg font-extrabold">
             {t("verify.panel")}
           </h2>
@@ -94,16 +102,18 @@ export default function SiteBatch({ loaderData, actionData }: Route.ComponentPro
               <blockquote className="mb-4 rounded-xl border-l-8 border-glacier bg-frost px-4 py-3 text-base" data-testid="statement">
                 {t(`verify.statementV${loaderData.statementVersion}`)}
               </blockquote>
-              <label className="mb-1 flex min-h-14 cursor-pointer items-center gap-4 rounded-xl border-2 border-line bg-white px-4">
-                <input type="checkbox" name="agree" value="true" className="h-7 w-7 shrink-0 accent-glacier" aria-invalid={signErrors.agree ? true : undefined} aria-describedby={signErrors.agree ? "agree-error" : undefined} />
-                <span className="text-base">{t("verify.agree")}</span>
-              </label>
+              <CheckboxField
+                label={t("verify.agree")}
+                name="agree"
+                aria-invalid={signErrors.agree ? true : undefined}
+                aria-describedby={signErrors.agree ? "agree-error" : undefined}
+              />
               {signErrors.agree ? (
-                <p id="agree-error" className="field-error" role="alert">
+                <p id="agree-error" className="-mt-4 mb-5 field-error" role="alert">
                   {t(signErrors.agree)}
                 </p>
               ) : null}
-              <div className="mt-5 mb-5">
+              <div className="mb-5">
                 <label htmlFor="f-comment" className="label">
                   {t("verify.comment")}
                 </label>
@@ -131,7 +141,10 @@ export default function SiteBatch({ loaderData, actionData }: Route.ComponentPro
               </button>
             </Form>
           ) : (
-            <p data-testid="why-no-signing">{review.signing === "unconfirmed" ? t("verify.why.unconfirmed", { count: review.unconfirmed }) : t(`verify.why.${review.signing}`)}</p>
+            <>
+              {review.status === "signed" && latest ? <p className="mb-2 font-bold text-pine">✓ {t("verify.signedBy", { name: latest.signedBy, time: when(latest.signedAt) })}</p> : null}
+              <p data-testid="why-no-signing">{review.signing === "unconfirmed" ? t("verify.why.unconfirmed", { count: review.unconfirmed }) : t(`verify.why.${review.signing}`)}</p>
+            </>
           )}
         </section>
       </div>

@@ -159,7 +159,7 @@ describe("corrective actions", () => {
     const html = await (await manager.get(page(t, id))).text();
     expect(html).toContain("Moved from “Walk-in cooler, still air” to “Ice-water bath, food stirred”");
     expect(html).toContain("Taken by cook");
-    expect(html).toContain("Confirm the corrective action above first");
+    expect(html).toContain("Confirm the corrective action below first");
     const refused = await manager.post(page(t, id), sign());
     expect(refused.status).toBe(409);
     expect(await refused.text()).toContain("Confirm every corrective action before signing.");
