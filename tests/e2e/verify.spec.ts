@@ -33,6 +33,11 @@ test("a manager confirms the corrective action on a finished batch and signs its
   const manager = demo("harbor", "manager");
   await signIn(page, manager.email);
   await page.goto(path);
+  // Another journey may have left this demo manager on Spanish; this one reads the English words.
+  if ((await page.locator("html").getAttribute("lang")) === "es") {
+    await page.getByRole("button", { name: /English/ }).click();
+    await expect(page.locator("html")).toHaveAttribute("lang", "en");
+  }
   await expect(page.getByRole("heading", { name: "Smoky black-bean chili" })).toBeVisible();
   await expect(page.getByTestId("verification-status")).toHaveText("Waiting for a signature");
   await expect(page.getByText("Confirm the corrective action below first")).toBeVisible();
