@@ -1,13 +1,228 @@
-import { can, requireRole } from "~/server/guards.server";
+import { useTranslation } from "react-i18next";
+import { data, Form, Link, redirect, useNavigation } from "react-router";
+import { BatchHeading, BatchNotices, ChartSection, HistoryTable, StagesPanel } from "~/components/batch-view";
+import { CheckboxField } from "~/components/controls";
+import { Notice } from "~/components/frame";
+import { useLiveNow } from "~/components/use-live-now";
+import { fieldErrors } from "~/lib/forms";
+import { loadBatchView } from "~/server/batch-view.server";
+import { can, isUuid, notFound, requireRole } from "~/server/guards.server";
+import { confirmAction, loadVerification, signBatch, STATEMENT_VERSION, VerificationActionSchema } from "~/server/verification.server";
 import type { Route } from "./+types/site-batch";
 
 export const meta: Route.MetaFunction = () => [{ title: "Batch · Chillwright" }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
-  await requireRole(request, can.review, params.siteId);
-  return {};
+  const { user, site, role } = await requireRole(request, can.review, params.siteId);
+  if (!isUuid(params.batchId)) notFound();
+  const view = await loadBatchView(site.id, params.batchId);
+  if (!view) notFound();
+  const review = await loadVerification(site, view.batch, { id: user.id, role });
+  const done = new URL(request.url).searchParams.get("done");
+  return { ...view, review, siteId: site.id, signerName: user.name, statementVersion: STATEMENT_VERSION, done };
 }
 
-export default function SiteBatch() {
-  return <h1 className="text-2xl font-extrabold">Batch</h1>;
+export async function action({ request, params }: Route.ActionArgs) {
+  const { user, site, role } = await requireRole(request, can.verify, params.siteId);
+  if (!isUuid(params.batchId)) notFound();
+  const form = Object.fromEntries(await request.formData());
+  const target = { intent: String(form.intent ?? ""), actionId: String(form.actionId ?? "") };
+  const parsed = VerificationActionSchema.safeParse(form);
+  if (!parsed.success) return data({ ...target, errors: fieldErrors(parsed.error) }, { status: 400 });
+  const input = parsed.data;
+  const signer = { id: user.id, role };
+  const result = input.intent === "sign" ? await signBatch(site, signer, params.batchId, input) : await confirmAction(site, signer, params.batchId, input);
+  if (!result.ok) {
+    if (result.status === 404) notFound();
+    return data({ ...target, errors: result.errors }, { status: result.status });
+  }
+  return redirect(`/sites/${site.id}/batches/${params.batchId}?done=${input.intent === "sign" ? "signed" : "confirmed"}`);
+}
+
+const btn = "btn-primary min-h-12 w-full";
+const statusStyle = {
+  "not-ended": "bg-frost text-ink-soft",
+  awaiting: "bg-glacier-light text-glacier-dark",
+  signed: "bg-pine-light text-pine",
+  "changed-after-signing": "bg-amber-light text-amber",
+} as const;
+
+export default function SiteBatch({ loaderData, actionData }: Route.ComponentProps) {
+  const { t, i18n } = useTranslation();
+  const { batch, record, readings, timeZone, review, siteId, done } = loaderData;
+  const now = useLiveNow(loaderData.now);
+  const busy = useNavigation().state !== "idle";
+  const errors: Record<string, string> = actionData?.errors ?? {};
+  const when = (ms: number) => new Intl.DateTimeFormat(i18n.language, { timeZone, dateStyle: "medium", timeStyle: "short" }).format(ms);
+  const afterSigning = (ms: number) => review.firstSignedAt !== null && ms > review.firstSignedAt;
+  const method = (id: unknown) => t(`library.methods.${String(id)}`, { defaultValue: String(id) });
+  const describe = (a: (typeof review.actions)[number]) => {
+    const d = a.detail as { method?: string; lid?: boolean; from?: { method?: string }; reason?: string; quantityKg?: number };
+    if (a.kind === "change_method" && d.method === d.from?.method) return t("verify.action.lidOff");
+    if (a.kind === "change_method") return t("verify.action.change_method", { from: method(d.from?.method), to: method(d.method) });
+    if (a.kind === "discard") return d.quantityKg ? t("verify.action.discardQuantity", { quantity: d.quantityKg, reason: d.reason }) : t("verify.action.discard", { reason: d.reason });
+    return a.kind;
+  };
+  const errorFor = (intent: string, actionId = "") => (actionData && actionData.intent === intent && (intent === "sign" || actionData.actionId === actionId) ? errors : {});
+  const signErrors = errorFor("sign");
+  const latest = review.signatures.at(-1);
+  return (
+    <div>
+      <BatchHeading batch={batch}>
+        <div className="flex flex-wrap items-center gap-3">
+          <span className={`rounded-xl px-3 py-2 font-extrabold ${statusStyle[review.status]}`} data-testid="verification-status">
+            {t(`verify.status.${review.status}`)}
+          </span>
+          <Link to={`/sites/${siteId}/review`} className="btn-quiet min-h-12">
+            ← {t("verify.backToReview")}
+          </Link>
+        </div>
+      </BatchHeading>
+      {done === "signed" ? <Notice tone="ok">{t("verify.signedNotice")}</Notice> : null}
+      {done === "confirmed" ? <Notice tone="ok">{t("verify.confirmedNotice")}</Notice> : null}
+      <BatchNotices batch={batch} record={record} />
+
+      <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_26rem]">
+        <StagesPanel view={loaderData} now={now} whatIfs={batch.state === "cooling"} />
+
+        <section className="card self-start" aria-labelledby="verification">
+          <h2 id="verification" className="mb-3 text-lg font-extrabold">
+            {t("verify.panel")}
+          </h2>
+          {review.status === "changed-after-signing" && review.entriesSince ? (
+            <Notice tone="warn">{t("verify.changedSince", review.entriesSince)}</Notice>
+          ) : null}
+          {signErrors.form ? <Notice tone="error">{t(signErrors.form)}</Notice> : null}
+          {review.signing === "ready" ? (
+            <Form method="post">
+              <input type="hidden" name="intent" value="sign" />
+              <input type="hidden" name="statementVersion" value={loaderData.statementVersion} />
+              <input type="hidden" name="language" value={i18n.language} />
+              <p className="label">{t("verify.statementLabel")}</p>
+              <blockquote className="mb-4 rounded-xl border-l-8 border-glacier bg-frost px-4 py-3 text-base" data-testid="statement">
+                {t(`verify.statementV${loaderData.statementVersion}`)}
+              </blockquote>
+              <CheckboxField
+                label={t("verify.agree")}
+                name="agree"
+                aria-invalid={signErrors.agree ? true : undefined}
+                aria-describedby={signErrors.agree ? "agree-error" : undefined}
+              />
+              {signErrors.agree ? (
+                <p id="agree-error" className="-mt-4 mb-5 field-error" role="alert">
+                  {t(signErrors.agree)}
+                </p>
+              ) : null}
+              <div className="mb-5">
+                <label htmlFor="f-comment" className="label">
+                  {t("verify.comment")}
+                </label>
+                <textarea
+                  id="f-comment"
+                  name="comment"
+                  rows={3}
+                  maxLength={1000}
+                  className="field py-3"
+                  aria-invalid={signErrors.comment ? true : undefined}
+                  aria-describedby={signErrors.comment ? "f-comment-hint f-comment-error" : "f-comment-hint"}
+                />
+                <p id="f-comment-hint" className="mt-1 text-sm text-ink-soft">
+                  {t("verify.commentHint")}
+                </p>
+                {signErrors.comment ? (
+                  <p id="f-comment-error" className="field-error" role="alert">
+                    {t(signErrors.comment)}
+                  </p>
+                ) : null}
+              </div>
+              <p className="mb-3 text-sm text-ink-soft">{t("verify.signsAs", { name: loaderData.signerName })}</p>
+              <button type="submit" className={btn} disabled={busy}>
+                {review.status === "changed-after-signing" ? t("verify.signAgain") : t("verify.sign")}
+              </button>
+            </Form>
+          ) : (
+            <>
+              {review.status === "signed" && latest ? <p className="mb-2 font-bold text-pine">✓ {t("verify.signedBy", { name: latest.signedBy, time: when(latest.signedAt) })}</p> : null}
+              <p data-testid="why-no-signing">{review.signing === "unconfirmed" ? t("verify.why.unconfirmed", { count: review.unconfirmed }) : t(`verify.why.${review.signing}`)}</p>
+            </>
+          )}
+        </section>
+      </div>
+
+      <section className="card mt-6" aria-labelledby="actions">
+        <h2 id="actions" className="mb-3 text-lg font-extrabold">
+          {t("verify.actions")}
+        </h2>
+        {review.actions.length === 0 ? <p className="text-ink-soft">{t("verify.noActions")}</p> : null}
+        <ul className="grid gap-3">
+          {review.actions.map((a) => {
+            const e = errorFor("confirm", a.id);
+            return (
+              <li key={a.id} className="rounded-xl bg-frost p-4" data-testid="corrective-action">
+                <p className="font-bold">
+                  {describe(a)}
+                  {afterSigning(a.takenAt) ? <span className="ml-2 rounded bg-amber-light px-1 text-sm text-amber">{t("verify.afterSigning")}</span> : null}
+                </p>
+                <p className="text-sm text-ink-soft">{t("verify.takenBy", { name: a.takenBy, time: when(a.takenAt) })}</p>
+                {a.confirmation ? (
+                  <p className="mt-2 text-base">
+                    <span className="font-bold text-pine">✓ {t("verify.confirmedBy", { name: a.confirmation.by, time: when(a.confirmation.at) })}</span>
+                    {a.confirmation.note ? <span className="block">{a.confirmation.note}</span> : null}
+                  </p>
+                ) : (
+                  <p className="mt-2 font-bold text-amber">{t("verify.awaitingConfirmation")}</p>
+                )}
+                {e.form ? <Notice tone="error">{t(e.form)}</Notice> : null}
+                {a.ownAction ? <p className="mt-2 text-sm">{t("verify.ownAction")}</p> : null}
+                {a.canConfirm ? (
+                  <Form method="post" className="mt-3 grid gap-3 sm:grid-cols-[minmax(0,1fr)_auto] sm:items-end">
+                    <input type="hidden" name="intent" value="confirm" />
+                    <input type="hidden" name="actionId" value={a.id} />
+                    <div>
+                      <label htmlFor={`note-${a.id}`} className="label">
+                        {t("verify.confirmNote")}
+                      </label>
+                      <input id={`note-${a.id}`} name="note" maxLength={1000} className="field" aria-invalid={e.note ? true : undefined} />
+                      {e.note ? (
+                        <p className="field-error" role="alert">
+                          {t(e.note)}
+                        </p>
+                      ) : null}
+                    </div>
+                    <button type="submit" className="btn-primary min-h-14" disabled={busy}>
+                      {t("verify.confirm")}
+                    </button>
+                  </Form>
+                ) : null}
+              </li>
+            );
+          })}
+        </ul>
+      </section>
+
+      <section className="card mt-6" aria-labelledby="signatures">
+        <h2 id="signatures" className="mb-3 text-lg font-extrabold">
+          {t("verify.signatures")}
+        </h2>
+        {review.signatures.length === 0 ? <p className="text-ink-soft">{t("verify.noSignatures")}</p> : null}
+        <ol className="grid gap-3">
+          {review.signatures.map((s) => (
+            <li key={s.id} className="rounded-xl bg-frost p-4" data-testid="signature">
+              <p className="font-bold">{t("verify.signedBy", { name: s.signedBy, time: when(s.signedAt) })}</p>
+              <p className="mt-1 text-base">“{s.statement}”</p>
+              {s.comment ? <p className="mt-1 text-base">{t("verify.commentShown", { comment: s.comment })}</p> : null}
+              <p className="mt-1 text-sm text-ink-soft">{t("verify.covered", { readings: s.readingsCovered, actions: s.actionsCovered })}</p>
+            </li>
+          ))}
+        </ol>
+      </section>
+
+      <ChartSection view={loaderData} now={now} />
+      <HistoryTable
+        readings={readings}
+        timeZone={timeZone}
+        note={(r) => (afterSigning(r.receivedAt) ? <span className="mr-2 rounded bg-amber-light px-1 text-amber">{t("verify.afterSigning")}</span> : null)}
+      />
+    </div>
+  );
 }
