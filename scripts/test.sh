@@ -54,6 +54,8 @@ if ! node_modules/.bin/react-router build >"$RESULTS/build.log" 2>&1; then
   echo '{"passed":0,"failed":1}' > "$RESULTS/build.json"
 else
   echo '{"passed":1,"failed":0}' > "$RESULTS/build.json"
+  # A maildev left by an interrupted run of this suite (the SMTP-outage test restarts its own) goes first.
+  pkill -f "[m]aildev --ip 127.0.0.1 --web-ip 127.0.0.1 -s $SMTP_PORT " 2>/dev/null || true
   start_maildev "$SMTP_PORT" "$MAIL_WEB_PORT"
   port_free "$APP_PORT" || die "Port $APP_PORT is taken (set CHILLWRIGHT_TEST_PORT)."
   HOST=127.0.0.1 PORT="$APP_PORT" node_modules/.bin/react-router-serve ./build/server/index.js >"$RESULTS/app.log" 2>&1 &

@@ -6,6 +6,8 @@ import { Notice } from "~/components/frame";
 import { useLiveNow } from "~/components/use-live-now";
 import { fieldErrors } from "~/lib/forms";
 import { loadBatchView } from "~/server/batch-view.server";
+import { siteTime } from "~/lib/site-time";
+import { acknowledge, alertsOfBatch } from "~/server/alerts.server";
 import { can, isUuid, notFound, requireRole } from "~/server/guards.server";
 import { confirmAction, loadVerification, signBatch, STATEMENT_VERSION, VerificationActionSchema } from "~/server/verification.server";
 import type { Route } from "./+types/site-batch";
@@ -18,14 +20,23 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const view = await loadBatchView(site.id, params.batchId);
   if (!view) notFound();
   const review = await loadVerification(site, view.batch, { id: user.id, role });
-  const done = new URL(request.url).searchParams.get("done");
-  return { ...view, review, siteId: site.id, signerName: user.name, statementVersion: STATEMENT_VERSION, done };
+  const url = new URL(request.url);
+  const done = url.searchParams.get("done");
+  const alerts = await alertsOfBatch(site.id, params.batchId);
+  return { ...view, review, siteId: site.id, signerName: user.name, statementVersion: STATEMENT_VERSION, done, alerts, alertId: url.searchParams.get("alert"), mayAcknowledge: can.manageAlerts.includes(role) };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
   const { user, site, role } = await requireRole(request, can.verify, params.siteId);
   if (!isUuid(params.batchId)) notFound();
   const form = Object.fromEntries(await request.formData());
+  if (form.intent === "acknowledge") {
+    // The alert e-mail's link lands here: acknowledging stops its escalation.
+    const id = String(form.eventId ?? "");
+    const ev = isUuid(id) ? await acknowledge(site, user.id, id, { batchId: params.batchId }) : null;
+    if (!ev) return data({ intent: "acknowledge", actionId: "", errors: { form: "verify.errors.unknownAlert" } as Record<string, string> }, { status: 404 });
+    return redirect(`/sites/${site.id}/batches/${params.batchId}?done=acknowledged`);
+  }
   const target = { intent: String(form.intent ?? ""), actionId: String(form.actionId ?? "") };
   const parsed = VerificationActionSchema.safeParse(form);
   if (!parsed.success) return data({ ...target, errors: fieldErrors(parsed.error) }, { status: 400 });
@@ -80,7 +91,38 @@ export default function SiteBatch({ loaderData, actionData }: Route.ComponentPro
       </BatchHeading>
       {done === "signed" ? <Notice tone="ok">{t("verify.signedNotice")}</Notice> : null}
       {done === "confirmed" ? <Notice tone="ok">{t("verify.confirmedNotice")}</Notice> : null}
+      {done === "acknowledged" ? <Notice tone="ok">{t("alerts.ackThanks")}</Notice> : null}
       <BatchNotices batch={batch} record={record} />
+      {loaderData.alerts.length ? (
+        <section className="card mb-6" aria-labelledby="batch-alerts">
+          <h2 id="batch-alerts" className="mb-3 text-lg font-extrabold">
+            {t("alerts.onBatch")}
+          </h2>
+          <ul className="grid gap-2">
+            {loaderData.alerts.map((a) => (
+              <li key={a.id} className={`flex flex-wrap items-center justify-between gap-3 rounded-xl p-3 ${a.id === loaderData.alertId ? "border-2 border-ember bg-ember-light" : "bg-frost"}`} data-testid="batch-alert">
+                <span>
+                  <span className="font-bold">{t(`alerts.kind.${a.kind}`)}</span>
+                  <span className="block text-sm">
+                    {t("alerts.raised")}: {siteTime(a.createdAt, timeZone, i18n.language)}
+                    {a.deadlineAt ? ` · ${t("alerts.deadline")}: ${siteTime(a.deadlineAt, timeZone, i18n.language)}` : ""}
+                  </span>
+                  {a.acknowledgedAt ? <span className="block text-sm font-bold text-pine">✓ {t("alerts.acknowledged", { name: a.ackBy, time: siteTime(a.acknowledgedAt, timeZone, i18n.language) })}</span> : null}
+                </span>
+                {!a.acknowledgedAt && loaderData.mayAcknowledge ? (
+                  <Form method="post">
+                    <input type="hidden" name="intent" value="acknowledge" />
+                    <input type="hidden" name="eventId" value={a.id} />
+                    <button type="submit" className="btn-primary min-h-12 px-5" disabled={busy}>
+                      {t("alerts.acknowledge")}
+                    </button>
+                  </Form>
+                ) : null}
+              </li>
+            ))}
+          </ul>
+        </section>
+      ) : null}
 
       <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_26rem]">
         <StagesPanel view={loaderData} now={now} whatIfs={batch.state === "cooling"} />

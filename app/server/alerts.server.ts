@@ -4,6 +4,7 @@ import type { Assessment } from "~/lib/engine/assess";
 import { recordAudit } from "./audit.server";
 import { listActive, refreshSnapshot } from "./batches.server";
 import { db, pool } from "./db.server";
+import { awaitingVerification } from "./verification.server";
 
 export type AlertKind = (typeof alertEvents.$inferSelect)["kind"];
 export const alertKinds: AlertKind[] = ["off_track", "stage_missed", "reading_overdue", "verification_digest"];
@@ -168,16 +169,6 @@ export function localDateHour(ms: number, timeZone: string) {
   return { date: `${parts.year}-${parts.month}-${parts.day}`, hour: Number(parts.hour) };
 }
 
-/**
- * SQL for "this batch has ended and its latest signature does not cover its record": no verification,
- * or the counts of readings and corrective actions have grown since.
- */
-export const awaitingVerificationSql = sql`(${batches.state} <> 'cooling' AND NOT EXISTS (
-  SELECT 1 FROM verifications v
-  WHERE v.batch_id = ${batches.id}
-    AND v.readings_covered = (SELECT count(*) FROM readings r WHERE r.batch_id = ${batches.id})
-    AND v.actions_covered = (SELECT count(*) FROM corrective_actions c WHERE c.batch_id = ${batches.id})))`;
-
 /** Once a day, at the site's digest hour (its own time zone): the records waiting for a signature. */
 async function digests(now: number) {
   const all = await db.select().from(sites);
@@ -188,7 +179,7 @@ async function digests(now: number) {
       .select({ id: batches.id, lotCode: batches.lotCode, product: products.name, endedAt: batches.endedAt, state: batches.state })
       .from(batches)
       .innerJoin(products, eq(products.id, batches.productId))
-      .where(and(eq(batches.siteId, site.id), awaitingVerificationSql))
+      .where(and(eq(batches.siteId, site.id), awaitingVerification))
       .orderBy(asc(batches.endedAt))
       .limit(51);
     if (!waiting.length) continue;
@@ -294,15 +285,17 @@ export async function sweep(now = Date.now()) {
 }
 
 /** A person says they have the alert in hand: escalation stops. Recorded once, with who and when. */
-export async function acknowledge(site: Site, userId: string, eventId: string, now = Date.now()) {
+export async function acknowledge(site: Site, userId: string, eventId: string, opts: { batchId?: string; now?: number } = {}) {
+  const now = opts.now ?? Date.now();
+  const mine = and(eq(alertEvents.id, eventId), eq(alertEvents.siteId, site.id), opts.batchId ? eq(alertEvents.batchId, opts.batchId) : undefined);
   return db.transaction(async (tx) => {
     const [ev] = await tx
       .update(alertEvents)
       .set({ acknowledgedAt: new Date(now), acknowledgedBy: userId })
-      .where(and(eq(alertEvents.id, eventId), eq(alertEvents.siteId, site.id), isNull(alertEvents.acknowledgedAt)))
+      .where(and(mine, isNull(alertEvents.acknowledgedAt)))
       .returning();
     if (!ev) {
-      const [existing] = await tx.select().from(alertEvents).where(and(eq(alertEvents.id, eventId), eq(alertEvents.siteId, site.id)));
+      const [existing] = await tx.select().from(alertEvents).where(mine);
       return existing ?? null;
     }
     await recordAudit(tx, { actor: { kind: "user", userId }, organisationId: site.organisationId, siteId: site.id, action: "alert.acknowledged", entity: "alert_event", entityId: ev.id });
@@ -343,3 +336,22 @@ export async function setRecipients(site: Site, userId: string, kind: AlertKind,
   return true;
 }
 
+
+/** The alerts a batch raised, newest first, for its page. */
+export async function alertsOfBatch(siteId: string, batchId: string) {
+  const rows = await db
+    .select({ event: alertEvents, ackBy: users.name })
+    .from(alertEvents)
+    .leftJoin(users, eq(users.id, alertEvents.acknowledgedBy))
+    .where(and(eq(alertEvents.siteId, siteId), eq(alertEvents.batchId, batchId)))
+    .orderBy(sql`${alertEvents.createdAt} DESC`)
+    .limit(20);
+  return rows.map(({ event, ackBy }) => ({
+    id: event.id,
+    kind: event.kind,
+    createdAt: event.createdAt.getTime(),
+    deadlineAt: event.deadlineAt?.getTime() ?? null,
+    acknowledgedAt: event.acknowledgedAt?.getTime() ?? null,
+    ackBy,
+  }));
+}

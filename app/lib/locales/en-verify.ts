@@ -51,6 +51,7 @@ export const verifyEn = {
     commentShown: "Comment: {{comment}}",
     afterSigning: "after signing",
     errors: {
+      unknownAlert: "That alert is not one of this batch's.",
       agree: "Tick the box to agree with the statement before signing.",
       commentTooLong: "A comment has at most 1000 characters.",
       noteTooLong: "A note has at most 1000 characters.",

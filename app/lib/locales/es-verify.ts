@@ -52,6 +52,7 @@ export const verifyEs: typeof verifyEn = {
     commentShown: "Comentario: {{comment}}",
     afterSigning: "después de firmar",
     errors: {
+      unknownAlert: "Esa alerta no es de este lote.",
       agree: "Marque la casilla para aceptar la declaración antes de firmar.",
       commentTooLong: "Un comentario tiene como máximo 1000 caracteres.",
       noteTooLong: "Una nota tiene como máximo 1000 caracteres.",
