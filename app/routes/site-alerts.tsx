@@ -182,7 +182,7 @@ export default function SiteAlerts({ loaderData, actionData }: Route.ComponentPr
                     {t("alerts.open")}
                   </Link>
                 ) : null}
-                {e.acknowledgedAt || e.kind === "verification_digest" ? null : (
+                {e.acknowledgedAt || e.resolvedAt || e.kind === "verification_digest" ? null : (
                   <Form method="post">
                     <input type="hidden" name="intent" value="acknowledge" />
                     <input type="hidden" name="eventId" value={e.id} />
@@ -249,7 +249,7 @@ export default function SiteAlerts({ loaderData, actionData }: Route.ComponentPr
                           {p.name} <span className="text-sm text-ink-soft">· {t(`roles.${p.role}`)}</span>
                           {lists[kind].length === 0 && shown >= 0 ? <span className="text-sm text-ink-soft"> · {shown + 1}</span> : null}
                         </label>
-                        <select id={`order-${kind}-${p.id}`} name={`order.${kind}.${p.id}`} defaultValue={at >= 0 ? String(at + 1) : ""} className="field w-36" aria-label={`${t("alerts.position")}: ${p.name}`}>
+                        <select id={`order-${kind}-${p.id}`} name={`order.${kind}.${p.id}`} defaultValue={at >= 0 ? String(at + 1) : ""} className="field w-48" aria-label={`${t("alerts.position")}: ${p.name}`}>
                           <option value="">{t("alerts.notListed")}</option>
                           {people.map((_, i) => (
                             <option key={i} value={String(i + 1)}>

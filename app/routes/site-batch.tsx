@@ -108,8 +108,9 @@ export default function SiteBatch({ loaderData, actionData }: Route.ComponentPro
                     {a.deadlineAt ? ` · ${t("alerts.deadline")}: ${siteTime(a.deadlineAt, timeZone, i18n.language)}` : ""}
                   </span>
                   {a.acknowledgedAt ? <span className="block text-sm font-bold text-pine">✓ {t("alerts.acknowledged", { name: a.ackBy, time: siteTime(a.acknowledgedAt, timeZone, i18n.language) })}</span> : null}
+                  {a.resolvedAt && !a.acknowledgedAt ? <span className="block text-sm text-ink-soft">{t("alerts.resolved", { time: siteTime(a.resolvedAt, timeZone, i18n.language) })}</span> : null}
                 </span>
-                {!a.acknowledgedAt && loaderData.mayAcknowledge ? (
+                {!a.acknowledgedAt && !a.resolvedAt && loaderData.mayAcknowledge ? (
                   <Form method="post">
                     <input type="hidden" name="intent" value="acknowledge" />
                     <input type="hidden" name="eventId" value={a.id} />

@@ -352,6 +352,7 @@ export async function alertsOfBatch(siteId: string, batchId: string) {
     createdAt: event.createdAt.getTime(),
     deadlineAt: event.deadlineAt?.getTime() ?? null,
     acknowledgedAt: event.acknowledgedAt?.getTime() ?? null,
+    resolvedAt: event.resolvedAt?.getTime() ?? null,
     ackBy,
   }));
 }
