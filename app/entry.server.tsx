@@ -4,7 +4,7 @@ import { randomBytes } from "node:crypto";
 import { PassThrough } from "node:stream";
 import { renderToPipeableStream, type RenderToPipeableStreamOptions } from "react-dom/server";
 import { ServerRouter, type EntryContext, type RouterContextProvider } from "react-router";
-import { startAlertWorker } from "./server/alert-worker.server";
+import { startAlertWorker, stopAlertWorker } from "./server/alert-worker.server";
 import { env } from "./server/env.server";
 import { contentSecurityPolicy } from "./server/security.server";
 
@@ -12,6 +12,14 @@ import { contentSecurityPolicy } from "./server/security.server";
 // so alerts fire on time with no page open. ALERT_WORKER=false leaves it to other processes.
 if (env.ALERT_WORKER) {
   startAlertWorker().catch((e) => console.error("The alert worker did not start:", e));
+  // The server closes its port on these signals; the queue's timers would keep the process alive, so
+  // the worker stops (finishing a send in progress, at most 5 s) and the process ends.
+  for (const signal of ["SIGTERM", "SIGINT"] as const) {
+    process.once(signal, () => {
+      setTimeout(() => process.exit(0), 5000).unref();
+      stopAlertWorker().finally(() => process.exit(0));
+    });
+  }
 }
 
 export const streamTimeout = 5_000;

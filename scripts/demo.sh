@@ -38,6 +38,7 @@ HOST=127.0.0.1 PORT="$APP_PORT" node_modules/.bin/react-router-serve ./build/ser
 STARTED_PIDS+=($!)
 wait_for_url "$APP_URL/healthz" 30 || { tail -n 40 "$DATA/app.log"; die "the app did not start; see .data/app.log"; }
 
+node_modules/.bin/tsx db/demo-batches.ts
 node_modules/.bin/tsx db/seed.ts --print
 cat <<MSG
 

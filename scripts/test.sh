@@ -30,7 +30,7 @@ export MAIL_FROM="Chillwright test <no-reply@chillwright.test>"
 export TRUST_PROXY=1
 export NODE_ENV=production
 # Alerts on a short clock so the suites see sweeps, retries and escalations in seconds.
-export ALERT_SWEEP_SECONDS=1 ALERT_POLL_SECONDS=0.5 ALERT_RETRY_DELAY_SECONDS=1 ALERT_RETRY_LIMIT=12
+export ALERT_SWEEP_SECONDS=1 ALERT_SETTLE_SECONDS=2 ALERT_POLL_SECONDS=0.5 ALERT_RETRY_DELAY_SECONDS=1 ALERT_RETRY_LIMIT=12
 export SECOND_APP_URL="http://127.0.0.1:$((APP_PORT + 1))"
 export MAILDEV_SMTP_PORT="$SMTP_PORT" MAILDEV_WEB_PORT="$MAIL_WEB_PORT"
 node_modules/.bin/tsx db/migrate.ts

@@ -4,6 +4,7 @@ import type { Assessment } from "~/lib/engine/assess";
 import { recordAudit } from "./audit.server";
 import { listActive, refreshSnapshot } from "./batches.server";
 import { db, pool } from "./db.server";
+import { env } from "./env.server";
 import { awaitingVerification } from "./verification.server";
 
 export type AlertKind = (typeof alertEvents.$inferSelect)["kind"];
@@ -87,6 +88,7 @@ export async function alertsForBatch(
   a: Assessment,
   lastReadingAt: number | null,
   now: number,
+  raise = true,
 ) {
   const attempt = a.evaluation.attempts.length;
   const raised: string[] = [];
@@ -99,7 +101,7 @@ export async function alertsForBatch(
   const missed = a.evaluation.stages.filter((s) => s.status === "missed");
   for (const s of missed) {
     const key = `${batch.id}:a${attempt}:s${s.stage}`;
-    const ev = await raiseEvent(site, { kind: "stage_missed", key, batchId: batch.id, deadlineAt: s.deadline, detail: { ...base, stage: s.stage, limit: s.limit, nextStep: a.evaluation.nextStep } });
+    const ev = raise && (await raiseEvent(site, { kind: "stage_missed", key, batchId: batch.id, deadlineAt: s.deadline, detail: { ...base, stage: s.stage, limit: s.limit, nextStep: a.evaluation.nextStep } }));
     if (ev) raised.push(ev.id);
   }
   const missedKeys = missed.map((s) => `${batch.id}:a${attempt}:s${s.stage}`);
@@ -115,7 +117,7 @@ export async function alertsForBatch(
       const key = `${batch.id}:a${attempt}:s${stage.stage}`;
       offKeys.push(key);
       const best = a.prediction.alternatives.find((w) => w.verdict !== "behind");
-      const ev = await raiseEvent(site, {
+      const ev = raise && (await raiseEvent(site, {
         kind: "off_track",
         key,
         batchId: batch.id,
@@ -128,7 +130,7 @@ export async function alertsForBatch(
           probability: p.probability,
           suggestion: best ? best.id : null,
         },
-      });
+      }));
       if (ev) raised.push(ev.id);
     }
   }
@@ -141,7 +143,7 @@ export async function alertsForBatch(
     if (now > due + site.overdueGraceMinutes * 60_000) {
       const key = `${batch.id}:due${due}`;
       overdueKeys.push(key);
-      const ev = await raiseEvent(site, { kind: "reading_overdue", key, batchId: batch.id, deadlineAt: due, detail: { ...base, lastReadingAt, graceMinutes: site.overdueGraceMinutes } });
+      const ev = raise && (await raiseEvent(site, { kind: "reading_overdue", key, batchId: batch.id, deadlineAt: due, detail: { ...base, lastReadingAt, graceMinutes: site.overdueGraceMinutes } }));
       if (ev) raised.push(ev.id);
     }
   }
@@ -149,7 +151,12 @@ export async function alertsForBatch(
   return raised;
 }
 
-/** After an entry through the station or the API: refresh nothing twice, raise what the entry shows. */
+/**
+ * After an entry through the station or the API: clear what the entry settles (a reading came, the
+ * batch is back on course or ended). Raising waits for the sweep and a quiet moment: a tablet sending
+ * its queued entries, or a cook entering a morning's readings one after another, must not trigger an
+ * "overdue" or "missed" that the next entry in the same burst disproves.
+ */
 export async function alertsAfterEntry(site: Site, batchId: string, a: Assessment | undefined, now = Date.now()) {
   if (!a) return;
   const [row] = await db
@@ -158,7 +165,7 @@ export async function alertsAfterEntry(site: Site, batchId: string, a: Assessmen
     .innerJoin(products, eq(products.id, batches.productId))
     .where(eq(batches.id, batchId));
   if (!row) return;
-  await alertsForBatch(site, row, row.product, a, row.last ? new Date(row.last).getTime() : null, now).catch((e) => console.error("alerts after entry:", e));
+  await alertsForBatch(site, row, row.product, a, row.last ? new Date(row.last).getTime() : null, now, false).catch((e) => console.error("alerts after entry:", e));
 }
 
 /** Local calendar date and hour of an instant in a time zone. */
@@ -265,7 +272,8 @@ export async function sweep(now = Date.now()) {
         const site = siteRows.find((s) => s.id === row.batch.siteId)!;
         await refreshSnapshot(site, row.batch.id, row.assessment, now);
         const last = row.readings.length ? Math.max(...row.readings.map((r) => r.takenAt.getTime())) : null;
-        await alertsForBatch(site, row.batch, row.product.name, row.assessment, last, now);
+        const lastReceived = Math.max(row.batch.createdAt.getTime(), ...row.readings.map((r) => r.receivedAt.getTime()));
+        await alertsForBatch(site, row.batch, row.product.name, row.assessment, last, now, now - lastReceived >= env.ALERT_SETTLE_SECONDS * 1000);
       }
       // Batches that ended since the last pass: their open events are settled.
       await db

@@ -18,6 +18,8 @@ const EnvSchema = z.object({
   ALERT_WORKER: z.stringbool().default(true),
   // How often the sweep looks for missed stages, overdue readings, escalations and digests.
   ALERT_SWEEP_SECONDS: z.coerce.number().min(0.5).max(600).default(30),
+  // A batch's alerts are raised once its entries have been quiet this long (a burst of queued entries lands first).
+  ALERT_SETTLE_SECONDS: z.coerce.number().min(0).max(600).default(15),
   ALERT_POLL_SECONDS: z.coerce.number().min(0.5).max(60).default(2),
   // A failed send is retried with exponential back-off from this delay, up to ALERT_RETRY_LIMIT times.
   ALERT_RETRY_DELAY_SECONDS: z.coerce.number().int().min(1).max(3600).default(10),

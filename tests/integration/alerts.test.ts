@@ -43,7 +43,7 @@ async function startBatch(t: Tenant, cook: Client, over: Record<string, unknown>
 
 // A deep, lidded pan in a still walk-in: the model says stage 1 will be missed (common practice: 10 cm of
 // chili under a lid takes many hours to cool).
-const deepLidded = { pan: { size: "gn-1/1", depthMm: 150, count: 1, fillDepthMm: 140, lid: true } };
+const deepLidded = { pan: { size: "gn-1/1", depthMm: 150, count: 1, fillDepthMm: 140 }, lid: true };
 
 const eventsOf = (batchId: string, kind?: Kind) =>
   db.select().from(alertEvents).where(kind ? and(eq(alertEvents.batchId, batchId), eq(alertEvents.kind, kind)) : eq(alertEvents.batchId, batchId));
@@ -122,6 +122,19 @@ describe("alerts by e-mail", () => {
     expect(mail.text).toContain("Grace allowed: 10 min");
     await cook.request(`/api/v1/batches/${batch.id}/readings`, { json: { clientId: randomUUID(), value: 90, unit: "F" } });
     await until("the overdue event to clear", async () => (await eventsOf(batch.id, "reading_overdue"))[0].resolvedAt);
+  });
+
+  it("a burst of back-dated entries (a tablet catching up) raises nothing the next entry disproves", async () => {
+    const t = await newTenant();
+    const cook = await signedIn(t.people.cook.email, t.people.cook.password);
+    // Alone, the start 70 min ago would be an overdue reading (30 min interval + 10 min grace).
+    const batch = await startBatch(t, cook, { start: { value: 152, unit: "F", takenAt: ago(70 * MIN) } });
+    for (const [minutes, value] of [[40, 138], [12, 121]] as const)
+      await cook.request(`/api/v1/batches/${batch.id}/readings`, { json: { clientId: randomUUID(), value, unit: "F", takenAt: ago(minutes * MIN) } });
+    // The settle time (2 s here) and a few sweeps pass.
+    await sleep(4500);
+    expect(await eventsOf(batch.id, "reading_overdue")).toHaveLength(0);
+    expect((await mailsTo(t.people.manager.email)).filter((m) => /Reading overdue/.test(m.subject))).toHaveLength(0);
   });
 
   it("the daily digest lists the finished batches waiting for a signature, once per local day, with a link to the queue", async () => {
