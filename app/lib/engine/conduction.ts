@@ -20,6 +20,7 @@ import {
   cylinderRoot,
   facePhase,
   findRootBrent,
+  nextSlabRoot,
   sinMinusXCos,
   slabRoot,
   sphereCoefficient,
@@ -121,6 +122,7 @@ const MAX_TERMS_PROFILE = 600;
 // A continued solution's projection is closed-form and cheap: it may sum far longer.
 const MAX_TERMS_MODAL = 4000;
 const SERIES_PREFERRED_TERMS = 24;
+const WALK_STEPS = 64;
 const FAR = 27; // erfc(27) < 1e-318: beyond η = 27 a face has not been felt
 
 // ---------------------------------------------------------------------------------------------
@@ -330,6 +332,12 @@ abstract class ModalSeries implements Series1D {
   private termsN = 0;
   /** Up to this Fo the early-time form is exact to within tol/10 (0: only when the cap forces it). */
   protected earlyUpToFo = 0;
+  /**
+   * Uniform start whose earlyUpToFo is still a bound from above, to be made exact by earlyLimitFo
+   * when a time below it is first asked (0: earlyUpToFo is exact). Most solutions are only ever
+   * asked about later times.
+   */
+  protected earlyPendingU = 0;
 
   constructor(
     protected readonly tol: number,
@@ -361,11 +369,19 @@ abstract class ModalSeries implements Series1D {
     if (fo === this.termsFo) return this.termsN;
     let n: number;
     // Where both forms are good, a long series loses to two erfc evaluations.
-    if (fo <= this.earlyUpToFo && !this.tailOk(SERIES_PREFERRED_TERMS, fo)) n = 0;
+    if (fo <= this.earlyUpToFo && fo <= this.earlyLimit() && !this.tailOk(SERIES_PREFERRED_TERMS, fo)) n = 0;
     else n = this.countTerms(fo);
     this.termsFo = fo;
     this.termsN = n;
     return n;
+  }
+
+  private earlyLimit(): number {
+    if (this.earlyPendingU !== 0) {
+      this.earlyUpToFo = earlyLimitFo(this.earlyPendingU, this.tol);
+      this.earlyPendingU = 0;
+    }
+    return this.earlyUpToFo;
   }
 
   /** Terms the series alone needs at fo (0 past the cap), whichever form evaluations use. */
@@ -407,7 +423,11 @@ abstract class ModalSeries implements Series1D {
     if (fo === 0) return this.initial(s);
     const n = this.terms(fo);
     if (n === 0 || (n > SERIES_PREFERRED_TERMS && this.earlyAt(s, fo))) return this.early(s, fo);
-    const d = this.decays(fo, n);
+    return this.sumModes(s, n, this.decays(fo, n));
+  }
+
+  /** Σ amp·eigenfunction·decay over the first n modes at s. */
+  protected sumModes(s: number, n: number, d: number[]): number {
     let sum = 0;
     for (let i = 0; i < n; i++) sum += this.amp[i] * this.eigen(i, s) * d[i];
     return sum;
@@ -465,6 +485,13 @@ function earlyLimitFo(u: number, tol: number): number {
   let fo = 0.01;
   for (let i = 0; i < 6; i++) fo = 1 / (4 * Math.log((20 * Math.abs(u) * (1 + 1 / Math.sqrt(PI * fo))) / tol));
   return 0.9 * fo;
+}
+
+// A bound from above on earlyLimitFo, for one logarithm instead of six: every iterate there has a
+// logarithm above ln(20|U|/tol). Infinity where that logarithm is not positive (no bound).
+function earlyLimitCeilingFo(u: number, tol: number): number {
+  const r = (20 * Math.abs(u)) / tol;
+  return r > 1 ? 0.9 / (4 * Math.log(r)) : Infinity;
 }
 
 /**
@@ -538,7 +565,13 @@ class SlabSeries extends ModalSeries {
     // costs one pass over the nodes per term, so it stops sooner.
     super(tol, start.kind === "uniform" ? cap : start.modes ? MAX_TERMS_MODAL : MAX_TERMS_PROFILE);
     if (start.kind === "uniform") {
-      if (!preferSeries) this.earlyUpToFo = earlyLimitFo(start.u, tol);
+      if (!preferSeries) {
+        const ceiling = earlyLimitCeilingFo(start.u, tol);
+        if (ceiling < Infinity) {
+          this.earlyUpToFo = ceiling;
+          this.earlyPendingU = start.u;
+        } else this.earlyUpToFo = earlyLimitFo(start.u, tol);
+      }
       return;
     }
     let peak = 0;
@@ -692,8 +725,7 @@ class SlabSeries extends ModalSeries {
 
   protected computeMode(i: number): void {
     const n = i + 1;
-    const guess = i >= 2 ? this.zeta[i - 1] + PI : undefined;
-    const z = slabRoot(this.b0, this.b1, n, guess !== undefined && guess < n * PI ? guess : undefined);
+    const z = i === 0 ? slabRoot(this.b0, this.b1, 1) : nextSlabRoot(this.b0, this.b1, n, this.zeta[i - 1]);
     const phi0 = z === 0 ? 0.5 * PI : facePhase(z, this.b0);
     const norm = z === 0 ? 1 : 0.5 + (sin2Phase(z, this.b0) + sin2Phase(z, this.b1)) / (4 * z);
     // ∫₀¹ Xₙ dξ = [cos φ0 − (−1)ⁿ cos φ1] / ζₙ, since ζₙ + φ0 = nπ − φ1.
@@ -740,6 +772,73 @@ class SlabSeries extends ModalSeries {
 
   protected eigen(i: number, s: number): number {
     return Math.sin(this.zeta[i] * s + this.phi[i]);
+  }
+
+  // Points asked in even steps (a profile, a sampled search) share their sines: past the first two
+  // points of a run, each mode's angle ζξ + φ is turned by ζ·Δξ with a cached rotation, so
+  // a point costs a few products per term instead of a sine. The run restarts from fresh sines every
+  // WALK_STEPS points, and whenever the step changes by more than 1e-15, so an angle drifts from its
+  // direct value by at most WALK_STEPS·ζ·1e-15 rad plus rounding.
+  private walkLast = NaN; // position of the previous point
+  private walkGap = NaN; // step before it
+  private walkLeft = 0; // rotations left before fresh sines (0: not walking)
+  private walkN = 0; // modes the walk carries
+  private walkSin: Float64Array | null = null; // sin and cos of each mode's angle at walkLast
+  private walkCos: Float64Array | null = null;
+  private turnCos: Float64Array | null = null; // cos and sin of ζ·walkGap
+  private turnSin: Float64Array | null = null;
+
+  protected sumModes(s: number, n: number, d: number[]): number {
+    const amp = this.amp;
+    const gap = s - this.walkLast;
+    const even = Math.abs(gap - this.walkGap) <= 1e-15 && gap !== 0;
+    this.walkGap = gap;
+    this.walkLast = s;
+    let sum = 0;
+    if (even && this.walkLeft > 0 && n === this.walkN) {
+      const sn = this.walkSin!;
+      const cs = this.walkCos!;
+      const tc = this.turnCos!;
+      const ts = this.turnSin!;
+      for (let i = 0; i < n; i++) {
+        const si = sn[i] * tc[i] + cs[i] * ts[i];
+        cs[i] = cs[i] * tc[i] - sn[i] * ts[i];
+        sn[i] = si;
+        sum += amp[i] * d[i] * si;
+      }
+      this.walkLeft--;
+      return sum;
+    }
+    const z = this.zeta;
+    const phi = this.phi;
+    if (!even) {
+      this.walkLeft = 0;
+      for (let i = 0; i < n; i++) sum += amp[i] * d[i] * Math.sin(z[i] * s + phi[i]);
+      return sum;
+    }
+    // Third point of an even run (or a run that ran out): fresh sines, cosines and rotations.
+    if (!this.walkSin || this.walkSin.length < n) {
+      const size = Math.max(n, 8);
+      this.walkSin = new Float64Array(size);
+      this.walkCos = new Float64Array(size);
+      this.turnCos = new Float64Array(size);
+      this.turnSin = new Float64Array(size);
+    }
+    const sn = this.walkSin;
+    const cs = this.walkCos!;
+    const tc = this.turnCos!;
+    const ts = this.turnSin!;
+    for (let i = 0; i < n; i++) {
+      const angle = z[i] * s + phi[i];
+      sn[i] = Math.sin(angle);
+      cs[i] = Math.cos(angle);
+      tc[i] = Math.cos(z[i] * gap);
+      ts[i] = Math.sin(z[i] * gap);
+      sum += amp[i] * d[i] * sn[i];
+    }
+    this.walkN = n;
+    this.walkLeft = WALK_STEPS;
+    return sum;
   }
 
   /** The series at fo, truncated where its tail is below tol/10; null past the term cap. */
@@ -1283,6 +1382,13 @@ function continuedStart(old: Series1D, fo: number, shift: number): SlabStart {
   return modalStart(u, { ...state, constant: state.constant + shift });
 }
 
+// A uniform start as a function of depth. Built here rather than inline: a closure assigned to a
+// named variable may be given its name at run time by some build tools, which costs more than the
+// rest of a new solution's set-up.
+function uniformC(c: number): (xM: number) => number {
+  return () => c;
+}
+
 /**
  * Solution of the heat equation for `geometry` and `material` from `initial` (°C) with every face
  * exchanging heat with one ambient at ambientC. Roots and coefficients are computed on first use and
@@ -1311,7 +1417,7 @@ export function solveConduction(
     let initialC: (xM: number) => number;
     if (typeof initial === "number") {
       start = { kind: "uniform", u: initial - ambientC };
-      initialC = () => initial;
+      initialC = uniformC(initial);
     } else if (typeof initial === "function") {
       const u = (s: number) => initial(s * L) - ambientC;
       start = profileStart(u, 0);

@@ -139,36 +139,139 @@ export function facePhase(zeta: number, bi: number): number {
   return Math.atan2(zeta, bi);
 }
 
-function phaseSlope(zeta: number, bi: number): number {
-  if (bi === 0 || bi === Infinity) return 0;
-  return bi / (bi * bi + zeta * zeta);
-}
-
 /**
  * n-th eigenvalue ζ (n ≥ 1) of a slab 0 ≤ ξ ≤ 1 with face Biot numbers b0 (ξ = 0) and b1 (ξ = 1).
  * Eigenfunction X = sin(ζξ + φ0), φi = atan(ζ/bi); the eigen-condition
  *   tan ζ = ζ(b0 + b1)/(ζ² − b0·b1)   (Özışık, Heat Conduction, ch. 2)
  * is written in its phase form ζ + φ0(ζ) + φ1(ζ) = nπ, whose left side increases strictly, so the
  * n-th root is the only one in [(n−1)π, nπ]. Both faces insulated: ζ = (n−1)π (n = 1 is the uniform
- * mode ζ = 0).
+ * mode ζ = 0). `guess`, when given inside that bracket, replaces the built-in starting point.
  */
 export function slabRoot(b0: number, b1: number, n: number, guess?: number): number {
-  if (b0 === 0 && b1 === 0) return (n - 1) * PI;
-  // Safeguarded Newton written out (no closures): this runs once per term of every new solution.
+  const closed = closedSlabRoot(b0, b1, n);
+  if (closed >= 0) return closed;
+  const a = (n - 1) * PI;
+  if (guess !== undefined && guess > a && guess < n * PI) return solvePhase(b0, b1, n, guess);
+  return solvePhase(b0, b1, n, n === 1 ? firstRootGuess(b0, b1) : slabGuess(b0, b1, n));
+}
+
+/**
+ * slabRoot(b0, b1, n) from the root before it, `previous` = slabRoot(b0, b1, n − 1): the gap
+ * Δ = ζn − ζn−1 solves the difference of the two phase conditions,
+ *   Δ + Σ atan(Δ·bi / (bi² + ζn−1·(ζn−1 + Δ))) = π   (atan x − atan y = atan((x − y)/(1 + xy))),
+ * whose arctangents have small arguments; two Newton steps on it with a rational arctangent give a
+ * guess from which one Halley step on the phase condition reaches rounding (for Biot numbers from
+ * 1e-6 to 1e6 and ∞).
+ */
+export function nextSlabRoot(b0: number, b1: number, n: number, previous: number): number {
+  const closed = closedSlabRoot(b0, b1, n);
+  if (closed >= 0) return closed;
+  const z = previous;
+  let gap = PI;
+  for (let k = 0; k < 2; k++) {
+    let h = gap - PI;
+    let dh = 1;
+    if (b0 > 0 && b0 < Infinity) {
+      const q = b0 * b0 + z * z;
+      const den = q + z * gap;
+      const x = (gap * b0) / den;
+      h += atanApprox(x);
+      dh += (b0 * q) / (den * den * (1 + x * x));
+    }
+    if (b1 > 0 && b1 < Infinity) {
+      const q = b1 * b1 + z * z;
+      const den = q + z * gap;
+      const x = (gap * b1) / den;
+      h += atanApprox(x);
+      dh += (b1 * q) / (den * den * (1 + x * x));
+    }
+    gap -= h / dh;
+  }
+  const guess = z + gap;
+  return solvePhase(b0, b1, n, guess > (n - 1) * PI && guess < n * PI ? guess : slabGuess(b0, b1, n));
+}
+
+// atan x for x ≥ 0 to within 1e-10, without a library call: reduced to |y| ≤ tan(π/8) by
+// atan x = π/2 − atan(1/x) and atan x = π/4 + atan((x − 1)/(x + 1)), then the [7/6] rational
+// form of the continued fraction atan y = y/(1 + y²/(3 + 4y²/(5 + 9y²/(7 + …)))).
+function atanApprox(x: number): number {
+  let y = x;
+  let offset = 0;
+  let sign = 1;
+  if (y > 1) {
+    y = 1 / y;
+    offset = HALF_PI;
+    sign = -1;
+  }
+  if (y > 0.41421356237309503) {
+    y = (y - 1) / (y + 1);
+    offset += sign * 0.25 * PI;
+  }
+  const t = y * y;
+  const r = (y * (135135 + t * (173250 + t * (53487 + t * 2304)))) / (135135 + t * (218295 + t * (99225 + t * 11025)));
+  return offset + sign * r;
+}
+
+// Faces that are each insulated or held fixed: φ0 + φ1 is a constant and ζ follows at once
+// (−1 otherwise).
+function closedSlabRoot(b0: number, b1: number, n: number): number {
+  const fixed0 = b0 === 0 || b0 === Infinity;
+  const fixed1 = b1 === 0 || b1 === Infinity;
+  if (!fixed0 || !fixed1) return -1;
+  return (n - 0.5 * ((b0 === 0 ? 1 : 0) + (b1 === 0 ? 1 : 0))) * PI;
+}
+
+/**
+ * Root of G(ζ) = ζ + φ0 + φ1 − nπ in [(n−1)π, nπ] from z: Halley steps (G″ and G‴ are as cheap as
+ * G′ here), bisection whenever a step would leave the shrinking bracket. Halley's remainder is
+ * (c2² − c3)·e³ with c2 = G″/2G′, c3 = G‴/6G′: a small step whose remainder bound is below rounding
+ * ends the search without another evaluation.
+ * Written out (no closures): this runs once per term of every new solution.
+ */
+function solvePhase(b0: number, b1: number, n: number, z: number): number {
   const target = n * PI;
-  let a = (n - 1) * PI; // F(a) ≤ 0
-  let b = target; // F(b) ≥ 0
-  let z = guess !== undefined && guess > a && guess < b ? guess : slabGuess(b0, b1, n);
+  let a = (n - 1) * PI; // G(a) ≤ 0
+  let b = target; // G(b) ≥ 0
   if (!(z > a && z < b)) z = 0.5 * (a + b);
   for (let i = 0; i < 100; i++) {
-    const f = z + facePhase(z, b0) + facePhase(z, b1) - target;
+    // G and its first three derivatives; each convective face adds atan(ζ/B) and, with
+    // r = 1/(B² + ζ²), the derivatives B·r, −2Bζ·r², 2B(3ζ² − B²)·r³.
+    let f = z - target;
+    let d1 = 1;
+    let d2 = 0;
+    let d3 = 0;
+    if (b0 === 0) f += HALF_PI;
+    else if (b0 !== Infinity) {
+      f += Math.atan2(z, b0);
+      const r = 1 / (b0 * b0 + z * z);
+      d1 += b0 * r;
+      d2 -= 2 * b0 * z * r * r;
+      d3 += 2 * b0 * (3 * z * z - b0 * b0) * r * r * r;
+    }
+    if (b1 === 0) f += HALF_PI;
+    else if (b1 !== Infinity) {
+      f += Math.atan2(z, b1);
+      const r = 1 / (b1 * b1 + z * z);
+      d1 += b1 * r;
+      d2 -= 2 * b1 * z * r * r;
+      d3 += 2 * b1 * (3 * z * z - b1 * b1) * r * r * r;
+    }
     if (f === 0) return z;
     if (f < 0) a = z;
     else b = z;
-    const step = f / (1 + phaseSlope(z, b0) + phaseSlope(z, b1));
-    let next = z - step;
-    if (!(next > a && next < b)) next = 0.5 * (a + b);
-    if (next === z || Math.abs(next - z) <= 2e-16 * z || b - a <= 4e-16 * b) return next;
+    const inv = 1 / d1;
+    const newton = f * inv;
+    const c2 = 0.5 * d2 * inv;
+    const step = newton / (1 - newton * c2);
+    const next = z - step;
+    const e = Math.abs(step);
+    if (next === z || e <= 2e-16 * z) return next;
+    if (!(next > a && next < b)) {
+      z = 0.5 * (a + b);
+      if (b - a <= 4e-16 * b) return z;
+      continue;
+    }
+    if (e <= 1e-4 * next && (c2 * c2 + Math.abs(d3 * inv) / 6) * e * e * e <= 1e-17 * next) return next;
     z = next;
   }
   return z;
@@ -178,6 +281,54 @@ function slabGuess(b0: number, b1: number, n: number): number {
   // One fixed-point step of ζ = nπ − φ0(ζ) − φ1(ζ) from the middle of the bracket.
   const mid = (n - 0.5) * PI;
   return n * PI - facePhase(mid, b0) - facePhase(mid, b1);
+}
+
+// First root: a rough form with the right limits, z² ≈ b0 + b1 + b0·b1 for small Biot numbers and
+// z → (π/2)(1 + β0·β1) for large ones (β = B/(1 + B)), times a correction tabulated on (β0, β1) and
+// interpolated bilinearly: within 0.2 % everywhere, so two Halley steps reach rounding.
+const GUESS_GRID = 16;
+let firstRootRatio: Float64Array | null = null;
+
+function biotFraction(bi: number): number {
+  return bi === Infinity ? 1 : bi / (1 + bi);
+}
+
+function roughFirstRoot(b0: number, b1: number): number {
+  const c = HALF_PI * (1 + biotFraction(b0) * biotFraction(b1));
+  const x = b0 + b1 + b0 * b1;
+  if (!(x < Infinity)) return c;
+  return Math.sqrt(x / (1 + x / (c * c)));
+}
+
+function firstRootTable(): Float64Array {
+  const m = GUESS_GRID;
+  const t = new Float64Array((m + 1) * (m + 1));
+  for (let i = 0; i <= m; i++) {
+    for (let j = 0; j <= m; j++) {
+      const b0 = i === m ? Infinity : i / (m - i);
+      const b1 = j === m ? Infinity : j / (m - j);
+      const closed = closedSlabRoot(b0, b1, 1);
+      const rough = roughFirstRoot(b0, b1);
+      const z = closed >= 0 ? closed : solvePhase(b0, b1, 1, rough);
+      t[i * (m + 1) + j] = rough > 0 ? z / rough : 1;
+    }
+  }
+  return t;
+}
+
+function firstRootGuess(b0: number, b1: number): number {
+  const t = (firstRootRatio ??= firstRootTable());
+  const m = GUESS_GRID;
+  const x = biotFraction(b0) * m;
+  const y = biotFraction(b1) * m;
+  const i = Math.min(m - 1, Math.floor(x));
+  const j = Math.min(m - 1, Math.floor(y));
+  const fx = x - i;
+  const fy = y - j;
+  const k = i * (m + 1) + j;
+  const ratio =
+    (1 - fx) * ((1 - fy) * t[k] + fy * t[k + 1]) + fx * ((1 - fy) * t[k + m + 1] + fy * t[k + m + 2]);
+  return ratio * roughFirstRoot(b0, b1);
 }
 
 /**
