@@ -443,7 +443,7 @@ export const actionConfirmations = pgTable(
 );
 
 export const alertKindEnum = pgEnum("alert_kind", ["off_track", "stage_missed", "reading_overdue", "verification_digest"]);
-export const deliveryStatusEnum = pgEnum("delivery_status", ["queued", "sending", "retrying", "sent", "failed"]);
+export const deliveryStatusEnum = pgEnum("delivery_status", ["queued", "sending", "retrying", "sent", "failed", "skipped"]);
 
 // Who gets each kind of alert at a site, in escalation order (position 1 first).
 export const alertRecipients = pgTable(

@@ -144,6 +144,7 @@ start_maildev() {
   port_free "$1" || die "Port $1 (mail) is taken: stop what uses it and run again."
   "$ROOT/node_modules/.bin/maildev" --ip 127.0.0.1 --web-ip 127.0.0.1 -s "$1" -w "$2" --silent >"$DATA/maildev-$1.log" 2>&1 &
   STARTED_PIDS+=($!)
+  echo $! > "$DATA/maildev-$1.pid"
   wait_for_url "http://127.0.0.1:$2/api/healthz" 20 || die "maildev did not start; see .data/maildev-$1.log"
 }
 

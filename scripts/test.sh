@@ -9,7 +9,7 @@ SMTP_PORT="${CHILLWRIGHT_TEST_SMTP_PORT:-1125}"
 MAIL_WEB_PORT="${CHILLWRIGHT_TEST_MAIL_WEB_PORT:-1180}"
 RESULTS="$ROOT/test-results"
 # A test that stops and restarts maildev (SMTP outage) leaves the new one to this cleanup.
-trap 'stop_started; pkill -f "maildev --ip 127.0.0.1 --web-ip 127.0.0.1 -s $SMTP_PORT " 2>/dev/null || true' EXIT
+trap 'stop_started; [ -f "$DATA/maildev-$SMTP_PORT.pid" ] && kill "$(cat "$DATA/maildev-$SMTP_PORT.pid")" 2>/dev/null; true' EXIT
 trap 'exit 130' INT TERM
 
 ensure_node_modules
@@ -32,7 +32,7 @@ export NODE_ENV=production
 # Alerts on a short clock so the suites see sweeps, retries and escalations in seconds.
 export ALERT_SWEEP_SECONDS=1 ALERT_SETTLE_SECONDS=2 ALERT_POLL_SECONDS=0.5 ALERT_RETRY_DELAY_SECONDS=1 ALERT_RETRY_LIMIT=12
 export SECOND_APP_URL="http://127.0.0.1:$((APP_PORT + 1))"
-export MAILDEV_SMTP_PORT="$SMTP_PORT" MAILDEV_WEB_PORT="$MAIL_WEB_PORT"
+export MAILDEV_SMTP_PORT="$SMTP_PORT" MAILDEV_WEB_PORT="$MAIL_WEB_PORT" MAILDEV_PID_FILE="$DATA/maildev-$SMTP_PORT.pid"
 node_modules/.bin/tsx db/migrate.ts
 node_modules/.bin/tsx db/seed.ts
 
@@ -55,7 +55,7 @@ if ! node_modules/.bin/react-router build >"$RESULTS/build.log" 2>&1; then
 else
   echo '{"passed":1,"failed":0}' > "$RESULTS/build.json"
   # A maildev left by an interrupted run of this suite (the SMTP-outage test restarts its own) goes first.
-  pkill -f "[m]aildev --ip 127.0.0.1 --web-ip 127.0.0.1 -s $SMTP_PORT " 2>/dev/null || true
+  if [ -f "$DATA/maildev-$SMTP_PORT.pid" ]; then kill "$(cat "$DATA/maildev-$SMTP_PORT.pid")" 2>/dev/null || true; fi
   start_maildev "$SMTP_PORT" "$MAIL_WEB_PORT"
   port_free "$APP_PORT" || die "Port $APP_PORT is taken (set CHILLWRIGHT_TEST_PORT)."
   HOST=127.0.0.1 PORT="$APP_PORT" node_modules/.bin/react-router-serve ./build/server/index.js >"$RESULTS/app.log" 2>&1 &

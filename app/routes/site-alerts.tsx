@@ -118,16 +118,15 @@ export async function action({ request, params }: Route.ActionArgs) {
       const list = lists[kind] ?? [];
       if (new Set(list.map((l) => l.at)).size !== list.length) return fail({ [kind]: "alerts.errors.duplicatePosition" });
     }
-    for (const kind of alertKinds) {
-      const ids = (lists[kind] ?? []).sort((a, b) => a.at - b.at).map((l) => l.id);
-      if (!(await setRecipients(site, user.id, kind, ids))) return fail({ [kind]: "alerts.errors.unknownPerson" });
-    }
+    const ordered = Object.fromEntries(alertKinds.map((kind) => [kind, (lists[kind] ?? []).sort((a, b) => a.at - b.at).map((l) => l.id)])) as Record<AlertKind, string[]>;
+    const refused = await setRecipients(site, user.id, ordered);
+    if (refused) return fail({ [refused]: "alerts.errors.unknownPerson" });
     return ok();
   }
   return fail({ intent: "unknown action" });
 }
 
-const statusTone = { sent: "bg-pine-light text-pine", failed: "bg-ember-light text-ember", retrying: "bg-amber-light text-amber", queued: "bg-frost text-ink-soft", sending: "bg-frost text-ink-soft" } as const;
+const statusTone = { sent: "bg-pine-light text-pine", failed: "bg-ember-light text-ember", retrying: "bg-amber-light text-amber", queued: "bg-frost text-ink-soft", sending: "bg-frost text-ink-soft", skipped: "bg-frost text-ink-soft" } as const;
 
 export default function SiteAlerts({ loaderData, actionData }: Route.ComponentProps) {
   const { t, i18n } = useTranslation();

@@ -1,4 +1,5 @@
 import { and, eq, inArray, sql } from "drizzle-orm";
+import { createHash } from "node:crypto";
 import { hostname } from "node:os";
 import PgBoss from "pg-boss";
 import { alertDeliveries, alertEvents, sites, users } from "~db/schema";
@@ -10,7 +11,8 @@ import { env } from "./env.server";
 import { sendMail } from "./mail.server";
 
 export const MAIL_QUEUE = "alert-mail";
-export const workerId = `${hostname()}:${process.pid}`;
+// A short tag for this process (host and pid hashed, so /healthz shows nothing about the machine).
+export const workerId = createHash("sha256").update(`${hostname()}:${process.pid}:${Date.now()}`).digest("hex").slice(0, 12);
 
 
 type Detail = {
@@ -92,6 +94,8 @@ export async function deliver(deliveryId: string, attempt: { retryCount: number;
     .where(and(eq(alertDeliveries.id, deliveryId), inArray(alertDeliveries.status, ["queued", "retrying"])))
     .returning();
   if (!claimed) throw new AlreadyHandled();
+  // Only this claim may settle the row (a job that outlived its expiry must not overwrite a newer one).
+  const mine = and(eq(alertDeliveries.id, deliveryId), eq(alertDeliveries.status, "sending"), eq(alertDeliveries.claimedAt, claimed.claimedAt!));
   try {
     const [row] = await db
       .select({ event: alertEvents, site: sites, language: users.language })
@@ -99,6 +103,12 @@ export async function deliver(deliveryId: string, attempt: { retryCount: number;
       .innerJoin(sites, eq(sites.id, alertEvents.siteId))
       .innerJoin(users, eq(users.id, claimed.userId))
       .where(eq(alertEvents.id, claimed.eventId));
+    // An alert someone has in hand, or whose condition cleared while the e-mail waited (an SMTP outage,
+    // an escalation queued just before the acknowledgement), is not sent late. A digest always goes.
+    if (row.event.kind !== "verification_digest" && (row.event.acknowledgedAt || row.event.resolvedAt)) {
+      await db.update(alertDeliveries).set({ status: "skipped", lastError: row.event.acknowledgedAt ? "Acknowledged before it was sent" : "The condition cleared before it was sent" }).where(mine);
+      return;
+    }
     let firstRecipient: string | undefined;
     if (claimed.level > 0) {
       const [first] = await db
@@ -121,13 +131,16 @@ export async function deliver(deliveryId: string, attempt: { retryCount: number;
       escalateAfterMinutes: row.site.escalateAfterMinutes,
     });
     await sendMail({ to: claimed.email, ...mail });
-    await db.update(alertDeliveries).set({ status: "sent", sentAt: new Date(), sentBy: workerId, lastError: null }).where(eq(alertDeliveries.id, deliveryId));
+    await db.update(alertDeliveries).set({ status: "sent", sentAt: new Date(), sentBy: workerId, lastError: null }).where(mine);
   } catch (e) {
-    const last = attempt.retryCount >= attempt.retryLimit;
+    // A permanent refusal (an SMTP 5xx, such as an unknown mailbox) is not retried; the screen shows it.
+    const permanent = typeof (e as { responseCode?: unknown }).responseCode === "number" && (e as { responseCode: number }).responseCode >= 500;
+    const last = permanent || attempt.retryCount >= attempt.retryLimit;
     await db
       .update(alertDeliveries)
       .set({ status: last ? "failed" : "retrying", lastError: e instanceof Error ? e.message.slice(0, 500) : String(e).slice(0, 500) })
-      .where(eq(alertDeliveries.id, deliveryId));
+      .where(mine);
+    if (permanent) return;
     throw e;
   }
 }

@@ -30,7 +30,9 @@ export async function recipientsFor(siteId: string, kind: AlertKind) {
     .where(and(eq(memberships.siteId, siteId), eq(users.active, true), inArray(memberships.role, kind === "verification_digest" ? ["manager", "admin", "qa"] : ["manager", "admin"])))
     .orderBy(asc(users.name));
   const listed = await db.select().from(alertRecipients).where(and(eq(alertRecipients.siteId, siteId), eq(alertRecipients.kind, kind))).orderBy(asc(alertRecipients.position));
-  if (listed.length) return listed.map((l) => eligible.find((e) => e.id === l.userId)).filter((e) => e !== undefined);
+  const chosen = listed.map((l) => eligible.find((e) => e.id === l.userId)).filter((e) => e !== undefined);
+  // A list whose people have all left or been deactivated falls back to the default, never to nobody.
+  if (chosen.length) return chosen;
   const managers = eligible.filter((e) => e.role === "manager");
   return managers.length ? managers : eligible.filter((e) => e.role === "admin");
 }
@@ -41,14 +43,19 @@ export async function recipientsFor(siteId: string, kind: AlertKind) {
  * delivery in the same transaction; escalation adds the next ones later.
  */
 export async function raiseEvent(site: Site, input: { kind: AlertKind; key: string; batchId: string | null; detail: Record<string, unknown>; deadlineAt: number | null }) {
-  const recipients = await recipientsFor(site.id, input.kind);
   const created = await db.transaction(async (tx) => {
+    if (input.batchId) {
+      // The sweep read the batch a moment ago; an entry may have ended it since.
+      const [b] = await tx.select({ state: batches.state }).from(batches).where(eq(batches.id, input.batchId)).for("share");
+      if (b?.state !== "cooling") return null;
+    }
     const [ev] = await tx
       .insert(alertEvents)
       .values({ siteId: site.id, batchId: input.batchId, kind: input.kind, dedupeKey: input.key, detail: input.detail, deadlineAt: input.deadlineAt === null ? null : new Date(input.deadlineAt) })
       .onConflictDoNothing()
       .returning();
     if (!ev) return null;
+    const recipients = await recipientsFor(site.id, input.kind);
     const first = input.kind === "verification_digest" ? recipients : recipients.slice(0, 1);
     const ds = first.length
       ? await tx.insert(alertDeliveries).values(first.map((r) => ({ eventId: ev.id, level: 0, userId: r.id, email: r.email }))).onConflictDoNothing().returning({ id: alertDeliveries.id })
@@ -114,7 +121,7 @@ export async function alertsForBatch(
     const p = a.prediction.stages[i];
     const stage = a.evaluation.stages[i];
     if (p && stage) {
-      const key = `${batch.id}:a${attempt}:s${stage.stage}`;
+      const key = await offTrackKey(batch.id, `${batch.id}:a${attempt}:s${stage.stage}`, now);
       offKeys.push(key);
       const best = a.prediction.alternatives.find((w) => w.verdict !== "behind");
       const ev = raise && (await raiseEvent(site, {
@@ -151,6 +158,27 @@ export async function alertsForBatch(
   return raised;
 }
 
+const REALERT_AFTER_MS = 30 * 60_000;
+
+/**
+ * Off track is a forecast: a batch that recovered and slips again is worth a new alert, but not one
+ * per wobble of the verdict. The key gets an occurrence number; a new one starts only when the last
+ * occurrence has cleared and was raised at least 30 minutes ago.
+ */
+async function offTrackKey(batchId: string, base: string, now: number) {
+  const rows = await db
+    .select({ key: alertEvents.dedupeKey, createdAt: alertEvents.createdAt, resolvedAt: alertEvents.resolvedAt })
+    .from(alertEvents)
+    .where(and(eq(alertEvents.batchId, batchId), eq(alertEvents.kind, "off_track"), sql`${alertEvents.dedupeKey} LIKE ${base + "%"}`))
+    .orderBy(sql`${alertEvents.createdAt} DESC`)
+    .limit(1);
+  const last = rows[0];
+  if (!last) return base;
+  if (!last.resolvedAt || now - last.createdAt.getTime() < REALERT_AFTER_MS) return last.key;
+  const n = Number(/#(\d+)$/.exec(last.key)?.[1] ?? 1);
+  return `${base}#${n + 1}`;
+}
+
 /**
  * After an entry through the station or the API: clear what the entry settles (a reading came, the
  * batch is back on course or ended). Raising waits for the sweep and a quiet moment: a tablet sending
@@ -182,6 +210,8 @@ async function digests(now: number) {
   for (const site of all) {
     const { date, hour } = localDateHour(now, site.timeZone);
     if (hour < site.digestHour) continue;
+    const [done] = await db.select({ id: alertEvents.id }).from(alertEvents).where(and(eq(alertEvents.siteId, site.id), eq(alertEvents.kind, "verification_digest"), eq(alertEvents.dedupeKey, date))).limit(1);
+    if (done) continue;
     const waiting = await db
       .select({ id: batches.id, lotCode: batches.lotCode, product: products.name, endedAt: batches.endedAt, state: batches.state })
       .from(batches)
@@ -218,7 +248,9 @@ async function escalate(now: number) {
     if (!mine.length) continue;
     const level = Math.max(...mine.map((d) => d.level));
     const top = mine.filter((d) => d.level === level);
-    const since = Math.max(...top.map((d) => (d.status === "sent" ? d.sentAt!.getTime() : d.status === "failed" ? d.createdAt.getTime() : Infinity)));
+    // From when the last e-mail went out, or was queued if it has not gone (an outage, a refusal): a
+    // delivery stuck in retries must not hold the next person back for hours.
+    const since = Math.max(...top.map((d) => (d.status === "sent" ? d.sentAt!.getTime() : d.createdAt.getTime())));
     if (!(now - since >= site.escalateAfterMinutes * 60_000)) continue;
     const list = await recipientsFor(site.id, event.kind);
     const already = new Set(mine.map((d) => d.userId));
@@ -249,6 +281,19 @@ async function recover(now: number) {
     .update(alertDeliveries)
     .set({ status: "failed", lastError: "The worker stopped while sending; the outcome is unknown. Retry to send again." })
     .where(and(eq(alertDeliveries.status, "sending"), lt(alertDeliveries.claimedAt, new Date(now - 10 * 60_000))));
+  // A delivery waiting for a retry whose job is gone from the queue (it expired mid-send) goes back in.
+  const orphans = await db
+    .update(alertDeliveries)
+    .set({ status: "queued" })
+    .where(
+      and(
+        eq(alertDeliveries.status, "retrying"),
+        lt(alertDeliveries.claimedAt, new Date(now - 10 * 60_000)),
+        sql`NOT EXISTS (SELECT 1 FROM pgboss.job j WHERE j.name = 'alert-mail' AND j.singleton_key = ${alertDeliveries.id}::text AND j.state IN ('created', 'retry', 'active'))`,
+      ),
+    )
+    .returning({ id: alertDeliveries.id });
+  if (orphans.length && enqueue) await enqueue(orphans.map((o) => o.id)).catch(() => undefined);
 }
 
 const SWEEP_LOCK = 7_734_201;
@@ -269,20 +314,23 @@ export async function sweep(now = Date.now()) {
       const siteRows = active.length ? await db.select().from(sites).where(inArray(sites.id, active.map((a) => a.siteId))) : [];
       const list = await listActive(siteRows, now);
       for (const row of list) {
-        const site = siteRows.find((s) => s.id === row.batch.siteId)!;
-        await refreshSnapshot(site, row.batch.id, row.assessment, now);
-        const last = row.readings.length ? Math.max(...row.readings.map((r) => r.takenAt.getTime())) : null;
-        const lastReceived = Math.max(row.batch.createdAt.getTime(), ...row.readings.map((r) => r.receivedAt.getTime()));
-        await alertsForBatch(site, row.batch, row.product.name, row.assessment, last, now, now - lastReceived >= env.ALERT_SETTLE_SECONDS * 1000);
+        // One batch that cannot be assessed or alerted must not stop the others, nor the digests.
+        try {
+          const site = siteRows.find((s) => s.id === row.batch.siteId)!;
+          await refreshSnapshot(site, row.batch.id, row.assessment, now, undefined, row.batch);
+          const last = row.readings.length ? Math.max(...row.readings.map((r) => r.takenAt.getTime())) : null;
+          const lastReceived = Math.max(row.batch.createdAt.getTime(), ...row.readings.map((r) => r.receivedAt.getTime()));
+          await alertsForBatch(site, row.batch, row.product.name, row.assessment, last, now, now - lastReceived >= env.ALERT_SETTLE_SECONDS * 1000);
+        } catch (e) {
+          console.error(`alert sweep, batch ${row.batch.id}:`, e instanceof Error ? e.message : e);
+        }
       }
       // Batches that ended since the last pass: their open events are settled.
       await db
         .update(alertEvents)
         .set({ resolvedAt: new Date(now) })
         .where(and(isNull(alertEvents.resolvedAt), sql`${alertEvents.batchId} IN (SELECT id FROM batches WHERE state <> 'cooling')`));
-      await digests(now);
-      await escalate(now);
-      await recover(now);
+      for (const step of [digests, escalate, recover]) await step(now).catch((e) => console.error(`alert sweep, ${step.name}:`, e instanceof Error ? e.message : e));
       return { swept: true, batches: list.length };
     } finally {
       await client.query("SELECT pg_advisory_unlock($1)", [SWEEP_LOCK]);
@@ -326,22 +374,30 @@ export async function retryDelivery(site: Site, userId: string, deliveryId: stri
   return !!d;
 }
 
-/** Replaces a kind's recipient list (in order). Only people who may receive that kind at the site. */
-export async function setRecipients(site: Site, userId: string, kind: AlertKind, ids: string[]) {
+/**
+ * Replaces the recipient lists (each in order), all or nothing: every person must be able to receive
+ * that kind at the site, or nothing changes. Returns the first kind that has someone who cannot.
+ */
+export async function setRecipients(site: Site, userId: string, lists: Record<AlertKind, string[]>): Promise<AlertKind | null> {
   const eligible = await db
-    .select({ id: users.id })
+    .select({ id: users.id, role: memberships.role })
     .from(memberships)
     .innerJoin(users, eq(users.id, memberships.userId))
-    .where(and(eq(memberships.siteId, site.id), eq(users.active, true), inArray(memberships.role, kind === "verification_digest" ? ["manager", "admin", "qa"] : ["manager", "admin"])));
-  const ok = new Set(eligible.map((e) => e.id));
-  const unique = [...new Set(ids)];
-  if (unique.some((id) => !ok.has(id))) return false;
+    .where(and(eq(memberships.siteId, site.id), eq(users.active, true), inArray(memberships.role, ["manager", "admin", "qa"])));
+  const cleaned = {} as Record<AlertKind, string[]>;
+  for (const kind of alertKinds) {
+    const ok = new Set(eligible.filter((e) => kind === "verification_digest" || e.role !== "qa").map((e) => e.id));
+    const unique = [...new Set(lists[kind] ?? [])];
+    if (unique.some((id) => !ok.has(id))) return kind;
+    cleaned[kind] = unique;
+  }
   await db.transaction(async (tx) => {
-    await tx.delete(alertRecipients).where(and(eq(alertRecipients.siteId, site.id), eq(alertRecipients.kind, kind)));
-    if (unique.length) await tx.insert(alertRecipients).values(unique.map((id, i) => ({ siteId: site.id, kind, userId: id, position: i + 1 })));
-    await recordAudit(tx, { actor: { kind: "user", userId }, organisationId: site.organisationId, siteId: site.id, action: "alert.recipients_set", entity: "site", entityId: site.id, data: { kind, recipients: unique } });
+    await tx.delete(alertRecipients).where(eq(alertRecipients.siteId, site.id));
+    const rows = alertKinds.flatMap((kind) => cleaned[kind].map((id, i) => ({ siteId: site.id, kind, userId: id, position: i + 1 })));
+    if (rows.length) await tx.insert(alertRecipients).values(rows);
+    await recordAudit(tx, { actor: { kind: "user", userId }, organisationId: site.organisationId, siteId: site.id, action: "alert.recipients_set", entity: "site", entityId: site.id, data: cleaned });
   });
-  return true;
+  return null;
 }
 
 

@@ -392,20 +392,28 @@ export async function settleState(site: Site, batchId: string, now: number) {
  * earliest missed deadline and when the next reading is due. Refreshed after every entry and by the
  * alert sweep; they are a cache of the assessment, never the record.
  */
-export async function refreshSnapshot(site: Site, batchId: string, a: Assessment, now: number, state?: string) {
+export async function refreshSnapshot(site: Site, batchId: string, a: Assessment, now: number, state?: string, known?: typeof batches.$inferSelect) {
   const current = a.evaluation.attempts.at(-1);
   const last = a.evaluation.stages.length ? await lastReadingAt(batchId) : null;
   const ended = state ? state !== "cooling" : false;
+  const next = {
+    verdict: a.prediction.verdict,
+    missedAt: current?.missedAt ? new Date(current.missedAt) : null,
+    nextReadingDueAt: ended || last === null ? null : new Date(last + site.readingIntervalMinutes * 60_000),
+  };
+  // The sweep passes the row it read: nothing to write when nothing changed.
+  const same = (x: Date | null, y: Date | null) => (x?.getTime() ?? null) === (y?.getTime() ?? null);
+  if (known && known.verdict === next.verdict && same(known.missedAt, next.missedAt) && same(known.nextReadingDueAt, next.nextReadingDueAt)) return;
   await db
     .update(batches)
     .set({
-      verdict: a.prediction.verdict,
+      ...next,
       assessedAt: new Date(now),
-      missedAt: current?.missedAt ? new Date(current.missedAt) : null,
-      nextReadingDueAt: ended || last === null ? null : new Date(last + site.readingIntervalMinutes * 60_000),
       ...(ended ? { fittedLnS: a.prediction.calibration.readingsUsed >= 3 ? Math.log(a.prediction.calibration.s) : null } : {}),
     })
-    .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+    // Without a state from the caller (the sweep), only a batch still cooling is refreshed: one that
+    // ended a moment ago keeps what its ending wrote.
+    .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id), state ? undefined : eq(batches.state, "cooling")));
 }
 
 async function lastReadingAt(batchId: string) {

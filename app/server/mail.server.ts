@@ -8,6 +8,10 @@ const transport = nodemailer.createTransport({
   auth: env.SMTP_USER ? { user: env.SMTP_USER, pass: env.SMTP_PASSWORD } : undefined,
   // maildev and most in-house relays on loopback have no certificate to offer.
   ignoreTLS: !env.SMTP_SECURE && env.SMTP_HOST === "127.0.0.1",
+  // Well inside the alert queue's job expiry (120 s): a hung server fails the send, which is retried.
+  connectionTimeout: 10_000,
+  greetingTimeout: 10_000,
+  socketTimeout: 30_000,
 });
 
 const escapeHtml = (s: string) =>

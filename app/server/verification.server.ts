@@ -75,8 +75,9 @@ const refuse = (status: 403 | 404 | 409, message: string) => ({ ok: false as con
 
 /**
  * Four eyes: when the site does not allow self-verification and it has more than one active
- * manager, nobody signs a batch they made entries on nor confirms an action they took. A kitchen
- * with a single manager has nobody else to ask, so the rule does not apply there.
+ * manager (an administrator at the site does not count as a second one), nobody
+ * signs a batch they made readings on or took a corrective action on, nor confirms an action they took. A kitchen with a
+ * single manager has nobody else to ask, so the rule does not apply there.
  */
 export async function selfVerificationBarred(site: Site, q: typeof db | Tx = db) {
   if (site.allowSelfVerification) return false;
@@ -86,6 +87,14 @@ export async function selfVerificationBarred(site: Site, q: typeof db | Tx = db)
     .innerJoin(users, eq(users.id, memberships.userId))
     .where(and(eq(memberships.siteId, site.id), eq(memberships.role, "manager"), eq(users.active, true)));
   return (row?.n ?? 0) > 1;
+}
+
+/** Whether someone had a hand in a batch's record: entered one of its readings or took one of its corrective actions. */
+async function madeEntries(q: typeof db | Tx, batchId: string, userId: string) {
+  const [r] = await q.select({ id: readings.id }).from(readings).where(and(eq(readings.batchId, batchId), eq(readings.enteredBy, userId))).limit(1);
+  if (r) return true;
+  const [a] = await q.select({ id: correctiveActions.id }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.takenBy, userId))).limit(1);
+  return !!a;
 }
 
 async function countsOf(q: typeof db | Tx, batchId: string) {
@@ -118,8 +127,7 @@ export async function signBatch(site: Site, signer: Signer, batchId: string, inp
     const [latest] = await tx.select().from(verifications).where(eq(verifications.batchId, batchId)).orderBy(sql`${verifications.signedAt} desc`).limit(1);
     if (verificationStatus({ state: batch.state, ...counts, latest: latest ?? null }) === "signed") return refuse(409, "verify.errors.alreadySigned");
     if (await selfVerificationBarred(site, tx)) {
-      const [mine] = await tx.select({ id: readings.id }).from(readings).where(and(eq(readings.batchId, batchId), eq(readings.enteredBy, signer.id))).limit(1);
-      if (mine) return refuse(403, "verify.errors.selfSign");
+      if (await madeEntries(tx, batchId, signer.id)) return refuse(403, "verify.errors.selfSign");
     }
     const [open] = await tx
       .select({ n: count() })
@@ -210,7 +218,7 @@ export async function loadVerification(site: Site, batch: { id: string; state: s
       .orderBy(asc(verifications.signedAt)),
     countsOf(db, batch.id),
     selfVerificationBarred(site),
-    db.select({ id: readings.id }).from(readings).where(and(eq(readings.batchId, batch.id), eq(readings.enteredBy, viewer.id))).limit(1),
+    madeEntries(db, batch.id, viewer.id).then((mine) => (mine ? [{ id: viewer.id }] : [])),
   ]);
   const latest = signatures.at(-1)?.v ?? null;
   const status = verificationStatus({ state: batch.state, ...counts, latest });

@@ -235,6 +235,22 @@ describe("no self-verification", () => {
     expect(await signaturesOf(barred)).toHaveLength(1);
   });
 
+  it("with two managers, one who only took a corrective action (no readings) does not sign the record", async () => {
+    const t = await newTenant();
+    const other = await secondManager(t);
+    const cook = await signedIn(t.people.cook.email, t.people.cook.password);
+    const manager = await signedIn(t.people.manager.email, t.people.manager.password);
+    const id = await cooledBatch(t, { end: false });
+    const moved = await manager.request(`/api/v1/batches/${id}/actions`, { json: { kind: "change_method", clientId: randomUUID(), method: "ice-bath-stirred" } });
+    expect(moved.status).toBe(201);
+    expect((await cook.request(`/api/v1/batches/${id}/readings`, { json: { clientId: randomUUID(), value: 40, unit: "F" } })).status).toBe(201);
+    const second = await signedIn(other.email, other.password);
+    expect((await second.post(page(t, id), { intent: "confirm", actionId: await actionOf(id), note: "" })).status).toBe(302);
+    expect((await manager.post(page(t, id), sign())).status).toBe(403);
+    expect(await signaturesOf(id)).toHaveLength(0);
+    expect((await second.post(page(t, id), sign())).status).toBe(302);
+  });
+
   it("an inactive second manager does not count", async () => {
     const t = await newTenant();
     const other = await secondManager(t);

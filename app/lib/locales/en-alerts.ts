@@ -45,7 +45,7 @@ export const alertsEn = {
     deadline: "Deadline",
     deliveries: "E-mails",
     noRecipient: "Nobody to send to: add recipients below.",
-    status: { queued: "queued", sending: "sending", retrying: "retrying", sent: "sent", failed: "failed" },
+    status: { queued: "queued", sending: "sending", retrying: "retrying", sent: "sent", failed: "failed", skipped: "not sent (no longer needed)" },
     attempts_one: "{{count}} attempt",
     attempts_other: "{{count}} attempts",
     level: "level {{level}}",

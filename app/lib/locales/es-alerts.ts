@@ -47,7 +47,7 @@ export const alertsEs: typeof alertsEn = {
     deadline: "Plazo",
     deliveries: "Correos",
     noRecipient: "No hay a quién enviarla: añada destinatarios abajo.",
-    status: { queued: "en cola", sending: "enviando", retrying: "reintentando", sent: "enviado", failed: "fallido" },
+    status: { queued: "en cola", sending: "enviando", retrying: "reintentando", sent: "enviado", failed: "fallido", skipped: "no enviado (ya no hacía falta)" },
     attempts_one: "{{count}} intento",
     attempts_other: "{{count}} intentos",
     level: "nivel {{level}}",
