@@ -45,7 +45,7 @@ else
 fi
 
 say "Unit tests…"
-node_modules/.bin/vitest run --project unit ${CW_TEST_FILTER:-} --reporter=default --reporter=json \
+node_modules/.bin/vitest run --project unit ${CW_TEST_FILTER:-} --passWithNoTests --reporter=default --reporter=json \
   --outputFile.json="$RESULTS/unit.json" || true
 
 say "Building the app…"
@@ -68,7 +68,7 @@ else
   wait_for_url "$SECOND_APP_URL/healthz" 30 || { tail -n 40 "$RESULTS/app-2.log"; die "the second app process did not start"; }
 
   say "Integration tests…"
-  node_modules/.bin/vitest run --project integration ${CW_TEST_FILTER:-} --reporter=default --reporter=json \
+  node_modules/.bin/vitest run --project integration ${CW_TEST_FILTER:-} --passWithNoTests --reporter=default --reporter=json \
     --outputFile.json="$RESULTS/integration.json" || true
 
   if [ -z "${CW_SKIP_E2E:-}" ]; then
