@@ -11,8 +11,6 @@ export const recordsEn = {
     otherPeriod: "Another period",
     from: "From",
     to: "To",
-    format: "File",
-    download: "Download",
   },
   recordsSheet: {
     coverName: "Cover",

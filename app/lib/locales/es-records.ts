@@ -13,8 +13,6 @@ export const recordsEs: typeof recordsEn = {
     otherPeriod: "Otro periodo",
     from: "Desde",
     to: "Hasta",
-    format: "Archivo",
-    download: "Descargar",
   },
   recordsSheet: {
     coverName: "Portada",
