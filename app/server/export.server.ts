@@ -139,7 +139,7 @@ function tables(ctx: Ctx, names: Map<string, string>) {
   const detailOf = (a: typeof correctiveActions.$inferSelect) => {
     const d = a.detail as { method?: string; lid?: boolean; reason?: string; quantityKg?: number; from?: { method?: string } };
     if (a.kind === "change_method") return s("moveDetail", { method: method(d.method ?? ""), lid: d.lid ? s("withLid") : "", from: method(d.from?.method ?? "") });
-    if (a.kind === "discard") return s("discardDetail", { reason: d.reason ?? "" }) + (d.quantityKg ? s("quantity", { kg: d.quantityKg }) : "");
+    if (a.kind === "discard") return (d.reason ?? "") + (d.quantityKg ? s("quantity", { kg: d.quantityKg }) : "");
     return JSON.stringify(d);
   };
   const lotOf = (b: BatchRow) => [b.batch.lotCode, b.product.name];

@@ -85,7 +85,6 @@ export const recordsEn = {
     sources: { station: "station", web: "web", api: "API" },
     moveDetail: "to {{method}}{{lid}}, from {{from}}",
     withLid: " with lid",
-    discardDetail: "{{reason}}",
     quantity: " ({{kg}} kg)",
   },
 };

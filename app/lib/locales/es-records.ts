@@ -87,7 +87,6 @@ export const recordsEs: typeof recordsEn = {
     sources: { station: "estación", web: "web", api: "API" },
     moveDetail: "a {{method}}{{lid}}, desde {{from}}",
     withLid: " con tapa",
-    discardDetail: "{{reason}}",
     quantity: " ({{kg}} kg)",
   },
 };
