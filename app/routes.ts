@@ -36,6 +36,8 @@ export default [
       route("batches/:batchId", "routes/site-batch.tsx"),
       route("equipment/:equipmentId", "routes/site-equipment.tsx"),
       route("alerts", "routes/site-alerts.tsx"),
+      route("export.xlsx", "routes/site-export-xlsx.ts"),
+      route("export.csv", "routes/site-export-csv.ts"),
     ]),
   ]),
 ] satisfies RouteConfig;

@@ -1,7 +1,7 @@
 import { and, asc, eq, inArray, ne, sql } from "drizzle-orm";
 import { z } from "zod";
 import { auditEvents, batches, correctiveActions, equipment, panTypes, photos, products, readings, sites } from "~db/schema";
-import { assessBatch, type Assessment } from "~/lib/engine/assess";
+import { assessBatch, evaluateRecord, type AssessInput, type Assessment } from "~/lib/engine/assess";
 import { coolingMethodIds, PanFillSchema, panMaterialIds, panSizeIds } from "~/lib/engine/equipment";
 import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
 import { getRuleSet } from "~/lib/rule-sets";
@@ -333,20 +333,34 @@ export async function assess(site: Site, batchId: string, now = Date.now()): Pro
   return assessRows(site, row, rows, now, moves.length ? Math.max(...moves.map((m) => m.takenAt.getTime())) : undefined);
 }
 
-function assessRows(
-  site: Site,
-  row: { batch: typeof batches.$inferSelect; product: typeof products.$inferSelect; learnedLnS: number | null; learnedSd: number | null; learnedBatches: number | null },
-  rows: (typeof readings.$inferSelect)[],
-  now: number,
-  movedAt?: number,
-) {
+export type BatchRow = {
+  batch: typeof batches.$inferSelect;
+  product: typeof products.$inferSelect;
+  learnedLnS: number | null;
+  learnedSd: number | null;
+  learnedBatches: number | null;
+};
+
+function assessRows(site: Site, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt?: number) {
+  return assessBatch(assessInput(site, row, rows, now, movedAt));
+}
+
+/**
+ * The rule's evaluation alone (no prediction), from rows the caller already read: the export reads a
+ * page of batches with their readings in a few queries and evaluates each here, as the batch page would.
+ */
+export function evaluateRows(site: Pick<Site, "temperatureUnit">, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number) {
+  return evaluateRecord(assessInput(site, row, rows, now)).evaluation;
+}
+
+function assessInput(site: Pick<Site, "temperatureUnit">, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt?: number): AssessInput {
   const { batch, product } = row;
   const counted = effectiveReadings(rows);
   const start = counted[0];
   const startC = start ? start.valueC : 60;
   const composition = CompositionSchema.parse(batch.composition ?? product.composition);
   const food = averageProperties(composition, { fromC: Math.max(startC, 5), toC: 3 });
-  return assessBatch({
+  return {
     ruleSet: getRuleSet(batch.ruleSetCode)!,
     setup: {
       food,
@@ -363,7 +377,7 @@ function assessRows(
     siteUnit: site.temperatureUnit,
     now,
     movedAt,
-  });
+  };
 }
 
 /** The state follows the record: cooled once the readings meet every stage, cooling again if a correction undoes that. */

@@ -15,6 +15,8 @@ const pages: [string, Expect][] = [
   ["/sites/:site/api-tokens", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites/:site/review", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites/:site/equipment/:walkIn", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
+  ["/sites/:site/export.xlsx", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
+  ["/sites/:site/export.csv?sheet=readings", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
   ["/account", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
 ];

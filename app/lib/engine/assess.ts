@@ -40,24 +40,26 @@ export type Assessment = {
 };
 
 /**
- * The app's one call for a batch: evaluate the rule on the readings (with the model's estimate of the
- * clock start when the first reading came late), then predict each open stage against its deadline
- * and rank what would help. After a counted reheat the model restarts from the reheat reading.
+ * The record half of `assessBatch`: the rule's evaluation of the readings, with the model's estimate
+ * of the clock start when the first reading came in below the upper limit. The model is built only
+ * then, so a long export can evaluate many batches cheaply and still agree with the batch page.
  */
-export function assessBatch(input: AssessInput): Assessment {
-  const { ruleSet, setup, batchStartedAt, now } = input;
+export function evaluateRecord(
+  input: AssessInput,
+  physics: () => Pick<ReturnType<typeof buildBatchModel>, "model" | "prior"> = () => buildBatchModel(input.setup),
+): { evaluation: RuleEvaluation; crossingEstimate: Assessment["crossingEstimate"] } {
+  const { ruleSet, batchStartedAt, now } = input;
   const sorted = [...input.readings].sort((a, b) => a.takenAt - b.takenAt);
   const cooling = sorted.filter((r) => r.kind !== "reheat");
   // The first attempt's crossing is read from the readings before any reheat.
   const firstReheat = sorted.find((r) => r.kind === "reheat")?.takenAt ?? Infinity;
   const firstAttempt = cooling.filter((r) => r.takenAt < firstReheat);
-  const { model, prior } = buildBatchModel(setup);
-  const timed = (from: number, list: RuleReading[]): TimedReading[] => list.map((r) => ({ tS: (r.takenAt - from) / 1000, c: toCelsius(r.value, r.unit) }));
-
   let crossingEstimate: Assessment["crossingEstimate"] = null;
   const upperC = ruleSet.clockStartsAt === "upper-limit" ? ruleSet.stages[0].from.c : null;
   if (upperC !== null && firstAttempt.length > 0 && toCelsius(firstAttempt[0].value, firstAttempt[0].unit) < upperC) {
-    const est = estimateCrossing(model, timed(batchStartedAt, firstAttempt), upperC, prior);
+    const { model, prior } = physics();
+    const timed = firstAttempt.map((r) => ({ tS: (r.takenAt - batchStartedAt) / 1000, c: toCelsius(r.value, r.unit) }));
+    const est = estimateCrossing(model, timed, upperC, prior);
     if (est) crossingEstimate = { at: batchStartedAt + est.crossedAtS * 1000, sdS: est.sdS };
   }
   const evaluation = evaluateRuleSet(ruleSet, {
@@ -67,6 +69,23 @@ export function assessBatch(input: AssessInput): Assessment {
     clockStartEstimate: crossingEstimate ? Math.min(crossingEstimate.at, cooling[0].takenAt) : undefined,
     now,
   });
+  return { evaluation, crossingEstimate };
+}
+
+/**
+ * The app's one call for a batch: evaluate the rule on the readings (with the model's estimate of the
+ * clock start when the first reading came late), then predict each open stage against its deadline
+ * and rank what would help. After a counted reheat the model restarts from the reheat reading.
+ */
+export function assessBatch(input: AssessInput): Assessment {
+  const { setup, batchStartedAt, now } = input;
+  const sorted = [...input.readings].sort((a, b) => a.takenAt - b.takenAt);
+  const cooling = sorted.filter((r) => r.kind !== "reheat");
+  const { model, prior } = buildBatchModel(setup);
+  const timed = (from: number, list: RuleReading[]): TimedReading[] => list.map((r) => ({ tS: (r.takenAt - from) / 1000, c: toCelsius(r.value, r.unit) }));
+  const { evaluation, crossingEstimate } = evaluateRecord(input, () => ({ model, prior }));
+  const ruleSet = input.ruleSet;
+  const upperC = ruleSet.clockStartsAt === "upper-limit" ? ruleSet.stages[0].from.c : null;
 
   // After a counted reheat the food starts afresh, uniform at the reheat temperature.
   const attempt = evaluation.attempts[evaluation.attempts.length - 1];

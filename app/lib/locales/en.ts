@@ -1,10 +1,12 @@
 import { reviewEn } from "./en-review";
 import { verifyEn } from "./en-verify";
 import { alertsEn } from "./en-alerts";
+import { recordsEn } from "./en-records";
 export const en = {
   ...reviewEn,
   ...verifyEn,
   ...alertsEn,
+  ...recordsEn,
   app: {
     name: "Chillwright",
     tagline: "Cooling records that catch a failing batch while it can still be saved.",

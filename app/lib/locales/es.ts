@@ -1,12 +1,14 @@
 import { reviewEs } from "./es-review";
 import { verifyEs } from "./es-verify";
 import { alertsEs } from "./es-alerts";
+import { recordsEs } from "./es-records";
 import type { Messages } from "./en";
 
 export const es: Messages = {
   ...reviewEs,
   ...verifyEs,
   ...alertsEs,
+  ...recordsEs,
   app: {
     name: "Chillwright",
     tagline: "Registros de enfriamiento que detectan un lote que va mal cuando todavía se puede salvar.",

@@ -1,0 +1,412 @@
+// The records export: a period's batches, readings and corrective actions as a workbook or as CSV.
+// Rows are read from PostgreSQL a page of batches at a time (keyset on started-at and id, each page's
+// readings, actions, confirmations and signatures in one query each) and written as they come.
+import { PassThrough, Readable } from "node:stream";
+import { createReadableStreamFromReadable } from "@react-router/node";
+import { and, asc, desc, eq, gte, inArray, lt, sql } from "drizzle-orm";
+import { actionConfirmations, batches, correctiveActions, equipment, organisations, readings, products, sites, users, verifications } from "~db/schema";
+import { getI18n, type Language } from "~/lib/i18n";
+import { csvLine, exportFileName, ExportRangeSchema, lastWeek, neutraliseFormula, rangeInstants, SheetSchema, wallClock, type ExportSheet } from "~/lib/records-export";
+import { getRuleSet, ruleSets } from "~/lib/rule-sets";
+import { fromCelsius, toCelsius } from "~/lib/temperature";
+import { recordAudit } from "./audit.server";
+import { effectiveReadings, evaluateRows, type BatchRow } from "./batches.server";
+import { db } from "./db.server";
+import { env } from "./env.server";
+import { writeWorkbook, type Cell, type SheetColumn, type SheetSpec } from "./xlsx-writer.server";
+
+type Site = typeof sites.$inferSelect;
+type Exporter = { id: string; name: string; email: string; language: Language };
+export type ExportRange = { from: string; to: string };
+type Ctx = { site: Site; range: ExportRange; fromMs: number; toMs: number; now: number; lang: Language };
+
+const PAGE_SIZE = 250;
+const STAGE_COLUMNS = Math.max(...ruleSets.map((r) => r.stages.length));
+const round1 = (x: number) => Math.round(x * 10) / 10;
+
+const badRequest = (message: string): never => {
+  throw new Response(message, { status: 400, headers: { "content-type": "text/plain; charset=utf-8" } });
+};
+
+/** The range from the query string: both dates, or neither for last week (Monday to Sunday, site time). */
+export function parseRange(url: URL, timeZone: string, now = Date.now()): ExportRange {
+  const from = url.searchParams.get("from");
+  const to = url.searchParams.get("to");
+  if (from === null && to === null) return lastWeek(timeZone, now);
+  const parsed = ExportRangeSchema.safeParse({ from: from ?? undefined, to: to ?? undefined });
+  if (!parsed.success) badRequest(`Bad date range: ${parsed.error.issues.map((i) => `${i.path.join(".") || "range"}: ${i.message}`).join("; ")}. Use ?from=YYYY-MM-DD&to=YYYY-MM-DD.`);
+  return parsed.data!;
+}
+
+export function parseSheet(url: URL): ExportSheet {
+  const parsed = SheetSchema.safeParse(url.searchParams.get("sheet") ?? undefined);
+  if (!parsed.success) badRequest("sheet is one of batches, readings, actions (e.g. ?sheet=readings).");
+  return parsed.data!;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Reading the record, a page at a time.
+
+async function* batchPages(ctx: Ctx): AsyncGenerator<(BatchRow & { cursorAt: string })[]> {
+  let cursor: { at: string; id: string } | null = null;
+  for (;;) {
+    const rows: (BatchRow & { cursorAt: string })[] = await db
+      .select({
+        batch: batches,
+        product: products,
+        learnedLnS: equipment.learnedLnS,
+        learnedSd: equipment.learnedSd,
+        learnedBatches: equipment.learnedBatches,
+        // The exact timestamp as text: a JS Date would drop microseconds and break the keyset.
+        cursorAt: sql<string>`${batches.startedAt}::text`,
+      })
+      .from(batches)
+      .innerJoin(products, eq(products.id, batches.productId))
+      .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
+      .where(
+        and(
+          eq(batches.siteId, ctx.site.id),
+          gte(batches.startedAt, new Date(ctx.fromMs)),
+          lt(batches.startedAt, new Date(ctx.toMs)),
+          cursor ? sql`(${batches.startedAt}, ${batches.id}) > (${cursor.at}::timestamptz, ${cursor.id}::uuid)` : undefined,
+        ),
+      )
+      .orderBy(asc(batches.startedAt), asc(batches.id))
+      .limit(PAGE_SIZE);
+    if (rows.length === 0) return;
+    yield rows;
+    if (rows.length < PAGE_SIZE) return;
+    const last = rows[rows.length - 1];
+    cursor = { at: last.cursorAt, id: last.batch.id };
+  }
+}
+
+const groupBy = <T, K>(rows: T[], key: (r: T) => K) => {
+  const m = new Map<K, T[]>();
+  for (const r of rows) {
+    const list = m.get(key(r));
+    if (list) list.push(r);
+    else m.set(key(r), [r]);
+  }
+  return m;
+};
+
+async function pageDetails(ids: string[], what: { readings?: boolean; actions?: boolean; signatures?: boolean }) {
+  const [rs, acts, confs, sigs] = await Promise.all([
+    what.readings ? db.select().from(readings).where(inArray(readings.batchId, ids)).orderBy(asc(readings.takenAt), asc(readings.receivedAt)) : [],
+    what.actions ? db.select().from(correctiveActions).where(inArray(correctiveActions.batchId, ids)).orderBy(asc(correctiveActions.takenAt)) : [],
+    what.actions ? db.select().from(actionConfirmations).where(inArray(actionConfirmations.batchId, ids)) : [],
+    what.signatures ? db.select().from(verifications).where(inArray(verifications.batchId, ids)).orderBy(desc(verifications.signedAt)) : [],
+  ]);
+  return {
+    readings: groupBy(rs, (r) => r.batchId),
+    actions: groupBy(acts, (a) => a.batchId),
+    confirmations: new Map(confs.map((c) => [c.correctiveActionId, c])),
+    // The latest signature of each batch (rows come newest first).
+    signatures: new Map([...sigs].reverse().map((v) => [v.batchId, v])),
+  };
+}
+
+async function userNames(organisationId: string) {
+  const rows = await db.select({ id: users.id, name: users.name }).from(users).where(eq(users.organisationId, organisationId));
+  return new Map(rows.map((u) => [u.id, u.name]));
+}
+
+async function counts(ctx: Ctx) {
+  const inRange = sql`SELECT id FROM ${batches} WHERE ${batches.siteId} = ${ctx.site.id} AND ${batches.startedAt} >= ${new Date(ctx.fromMs).toISOString()}::timestamptz AND ${batches.startedAt} < ${new Date(ctx.toMs).toISOString()}::timestamptz`;
+  const result = await db.execute<{ batches: string; readings: string; actions: string }>(sql`
+    SELECT (SELECT count(*) FROM (${inRange}) b) AS batches,
+           (SELECT count(*) FROM ${readings} WHERE ${readings.batchId} IN (${inRange})) AS readings,
+           (SELECT count(*) FROM ${correctiveActions} WHERE ${correctiveActions.batchId} IN (${inRange})) AS actions`);
+  const row = result.rows[0];
+  return { batches: Number(row.batches), readings: Number(row.readings), actions: Number(row.actions) };
+}
+
+// ---------------------------------------------------------------------------------------------
+// The tables: columns and rows, shared by the workbook and the CSV files.
+
+type Column = SheetColumn & { header: string };
+type Table = { name: string; columns: Column[]; rows: () => AsyncGenerator<Cell[]> };
+
+function tables(ctx: Ctx, names: Map<string, string>) {
+  const t = getI18n(ctx.lang).t;
+  const zone = ctx.site.timeZone;
+  const unit = ctx.site.temperatureUnit;
+  const when = (d: Date | null | undefined) => (d ? wallClock(d.getTime(), zone) : null);
+  const who = (id: string | null | undefined) => (id ? (names.get(id) ?? "") : "");
+  const s = (key: string, o?: Record<string, unknown>) => t(`recordsSheet.${key}`, o ?? {}) as string;
+  const method = (m: string) => t(`library.methods.${m}`, { defaultValue: m }) as string;
+  const detailOf = (a: typeof correctiveActions.$inferSelect) => {
+    const d = a.detail as { method?: string; lid?: boolean; reason?: string; quantityKg?: number; from?: { method?: string } };
+    if (a.kind === "change_method") return s("moveDetail", { method: method(d.method ?? ""), lid: d.lid ? s("withLid") : "", from: method(d.from?.method ?? "") });
+    if (a.kind === "discard") return (d.reason ?? "") + (d.quantityKg ? s("quantity", { kg: d.quantityKg }) : "");
+    return JSON.stringify(d);
+  };
+  const lotOf = (b: BatchRow) => [b.batch.lotCode, b.product.name];
+
+  const stageColumns: Column[] = [];
+  for (let n = 1; n <= STAGE_COLUMNS; n++) {
+    stageColumns.push(
+      { header: s("stageLimit", { n, unit }), width: 11, style: "temperature" },
+      { header: s("stageDeadline", { n }), width: 17, style: "datetime" },
+      { header: s("stageStatus", { n }), width: 12 },
+      { header: s("stageMetValue", { n, unit }), width: 12, style: "temperature" },
+      { header: s("stageMetAt", { n }), width: 17, style: "datetime" },
+    );
+  }
+
+  const batchTable: Table = {
+    name: s("batchesName"),
+    columns: [
+      { header: s("lot"), width: 16 },
+      { header: s("product"), width: 24 },
+      { header: s("started"), width: 17, style: "datetime" },
+      { header: s("ruleSetCode"), width: 22 },
+      { header: s("state"), width: 14 },
+      { header: s("outcome"), width: 12 },
+      ...stageColumns,
+      { header: s("attempts"), width: 9, style: "number" },
+      { header: s("readingsCount"), width: 9, style: "number" },
+      { header: s("actionsCount"), width: 11, style: "number" },
+      { header: s("actionsSummary"), width: 40, style: "wrap" },
+      { header: s("ended"), width: 17, style: "datetime" },
+      { header: s("verifiedBy"), width: 18 },
+      { header: s("signedAt"), width: 17, style: "datetime" },
+    ],
+    async *rows() {
+      for await (const page of batchPages(ctx)) {
+        const d = await pageDetails(page.map((r) => r.batch.id), { readings: true, actions: true, signatures: true });
+        for (const row of page) {
+          const rs = d.readings.get(row.batch.id) ?? [];
+          const acts = d.actions.get(row.batch.id) ?? [];
+          const counted = new Map(effectiveReadings(rs).map((r) => [r.id, r]));
+          const evaluation = evaluateRows(ctx.site, row, rs, ctx.now);
+          const stages: Cell[] = [];
+          for (let i = 0; i < STAGE_COLUMNS; i++) {
+            const st = evaluation.stages[i];
+            const met = st?.metBy ? counted.get(st.metBy) : undefined;
+            stages.push(
+              st ? round1(fromCelsius(toCelsius(st.limit.value, st.limit.unit), unit)) : null,
+              st?.deadline ? wallClock(st.deadline, zone) : null,
+              st ? s(`stageStatuses.${st.status}`) : null,
+              met ? round1(fromCelsius(met.valueC, unit)) : null,
+              met ? when(met.takenAt) : null,
+            );
+          }
+          const sig = d.signatures.get(row.batch.id);
+          yield [
+            ...lotOf(row),
+            when(row.batch.startedAt),
+            `${row.batch.ruleSetCode} v${getRuleSet(row.batch.ruleSetCode)?.version ?? "?"}`,
+            s(`states.${row.batch.state}`),
+            s(`outcomes.${evaluation.outcome}`),
+            ...stages,
+            evaluation.attempts.length,
+            rs.length,
+            acts.length,
+            acts.map((a) => `${s(`actionKinds.${a.kind}`)}: ${detailOf(a)}`).join("\n"),
+            when(row.batch.endedAt),
+            sig ? who(sig.signedBy) : null,
+            sig ? when(sig.signedAt) : null,
+          ];
+        }
+      }
+    },
+  };
+
+  const readingTable: Table = {
+    name: s("readingsName"),
+    columns: [
+      { header: s("lot"), width: 16 },
+      { header: s("product"), width: 24 },
+      { header: s("kind"), width: 10 },
+      { header: s("valueEntered"), width: 10, style: "number" },
+      { header: s("unit"), width: 6 },
+      { header: s("valueC"), width: 8, style: "temperature" },
+      { header: s("takenAt"), width: 17, style: "datetime" },
+      { header: s("receivedAt"), width: 17, style: "datetime" },
+      { header: s("late"), width: 7 },
+      { header: s("takenAtEdited"), width: 9 },
+      { header: s("enteredBy"), width: 18 },
+      { header: s("source"), width: 9 },
+      { header: s("probe"), width: 12 },
+      { header: s("photo"), width: 10 },
+      { header: s("corrects"), width: 17, style: "datetime" },
+      { header: s("correctsValue"), width: 10, style: "number" },
+      { header: s("correctionReason"), width: 36, style: "wrap" },
+      { header: s("readingId"), width: 38 },
+    ],
+    async *rows() {
+      for await (const page of batchPages(ctx)) {
+        const d = await pageDetails(page.map((r) => r.batch.id), { readings: true });
+        for (const row of page) {
+          const rs = d.readings.get(row.batch.id) ?? [];
+          const byId = new Map(rs.map((r) => [r.id, r]));
+          for (const r of rs) {
+            const corrected = r.correctsReadingId ? byId.get(r.correctsReadingId) : undefined;
+            yield [
+              ...lotOf(row),
+              s(`readingKinds.${r.kind}`),
+              r.valueEntered,
+              `°${r.unitEntered}`,
+              round1(r.valueC),
+              when(r.takenAt),
+              when(r.receivedAt),
+              r.late,
+              r.takenAtEdited,
+              who(r.enteredBy),
+              s(`sources.${r.source}`),
+              r.probe,
+              r.photoId ? { url: new URL(`/photos/${r.photoId}`, env.APP_URL).href, text: s("photoLink") } : null,
+              corrected ? when(corrected.takenAt) : null,
+              corrected ? corrected.valueEntered : null,
+              r.correctionReason,
+              r.id,
+            ];
+          }
+        }
+      }
+    },
+  };
+
+  const actionTable: Table = {
+    name: s("actionsName"),
+    columns: [
+      { header: s("lot"), width: 16 },
+      { header: s("product"), width: 24 },
+      { header: s("kind"), width: 24 },
+      { header: s("detail"), width: 40, style: "wrap" },
+      { header: s("takenBy"), width: 18 },
+      { header: s("actionTakenAt"), width: 17, style: "datetime" },
+      { header: s("confirmedBy"), width: 18 },
+      { header: s("confirmedAt"), width: 17, style: "datetime" },
+      { header: s("confirmationNote"), width: 30, style: "wrap" },
+    ],
+    async *rows() {
+      for await (const page of batchPages(ctx)) {
+        const d = await pageDetails(page.map((r) => r.batch.id), { actions: true });
+        for (const row of page) {
+          for (const a of d.actions.get(row.batch.id) ?? []) {
+            const c = d.confirmations.get(a.id);
+            yield [...lotOf(row), s(`actionKinds.${a.kind}`), detailOf(a), who(a.takenBy), when(a.takenAt), c ? who(c.confirmedBy) : null, c ? when(c.confirmedAt) : null, c?.note ?? null];
+          }
+        }
+      }
+    },
+  };
+
+  return { batches: batchTable, readings: readingTable, actions: actionTable };
+}
+
+// Every string that lands in a data row may come from a person (lot codes, names, reasons): the
+// workbook's cells are plain strings, never formulas, but a copy pasted or saved as CSV elsewhere would be.
+async function* neutralised(rows: AsyncGenerator<Cell[]>) {
+  for await (const row of rows) yield row.map((c) => (typeof c === "string" ? neutraliseFormula(c) : c));
+}
+
+// ---------------------------------------------------------------------------------------------
+// The two formats.
+
+async function context(site: Site, user: Exporter, range: ExportRange, format: string) {
+  const now = Date.now();
+  const { fromMs, toMs } = rangeInstants(range, site.timeZone);
+  await recordAudit(db, {
+    actor: { kind: "user", userId: user.id },
+    organisationId: site.organisationId,
+    siteId: site.id,
+    action: "records.exported",
+    entity: "site",
+    entityId: site.id,
+    data: { from: range.from, to: range.to, format },
+  });
+  return { site, range, fromMs, toMs, now, lang: user.language } satisfies Ctx;
+}
+
+function download(body: Readable, fileName: string, contentType: string) {
+  return new Response(createReadableStreamFromReadable(body), {
+    headers: {
+      "content-type": contentType,
+      "content-disposition": `attachment; filename="${fileName}"`,
+      "cache-control": "private, no-store",
+    },
+  });
+}
+
+/** The workbook: a cover, then batches, readings and corrective actions; streamed as it is written. */
+export async function exportWorkbook(site: Site, user: Exporter, range: ExportRange) {
+  const ctx = await context(site, user, range, "xlsx");
+  const [org] = await db.select({ name: organisations.name }).from(organisations).where(eq(organisations.id, site.organisationId));
+  const [names, totals] = await Promise.all([userNames(site.organisationId), counts(ctx)]);
+  const t = getI18n(ctx.lang).t;
+  const s = (key: string, o?: Record<string, unknown>) => t(`recordsSheet.${key}`, o ?? {}) as string;
+  const ruleSet = getRuleSet(site.ruleSetCode);
+  const zone = site.timeZone;
+  const cover: Cell[][] = [
+    [s("organisation"), org?.name ?? ""],
+    [s("site"), site.name],
+    [s("period"), s("periodValue", { from: range.from, to: range.to })],
+    [s("timeZone"), zone],
+    [s("ruleSet"), ruleSet ? s("ruleSetValue", { name: ruleSet.name, code: ruleSet.code, version: ruleSet.version }) : site.ruleSetCode],
+    [s("citation"), ruleSet ? `${ruleSet.citation}. ${ruleSet.source}` : ""],
+    [s("exportedBy"), `${user.name} <${user.email}>`],
+    [s("exportedAt"), wallClock(ctx.now, zone)],
+    [s("counts"), s("countsValue", totals)],
+    [s("retention"), s("retentionValue", { days: site.retentionDays })],
+    [s("caution"), t("app.caution") as string],
+    ["", s("timeNote", { zone })],
+    ["", s("textNote")],
+  ];
+  const tabs = tables(ctx, names);
+  const note = s("sheetNote", { zone, unit: site.temperatureUnit });
+  const sheet = (table: Table): SheetSpec => ({
+    name: table.name,
+    columns: table.columns,
+    headRows: [{ cells: [note], style: "label" }, { cells: table.columns.map((c) => c.header), style: "header" }],
+    table: true,
+    rows: neutralised(table.rows()),
+  });
+  const out = new PassThrough();
+  writeWorkbook(out, [
+    {
+      name: s("coverName"),
+      columns: [{ width: 30, style: "label" }, { width: 100, style: "wrap" }],
+      headRows: [],
+      table: false,
+      rows: (async function* () {
+        yield [s("title")];
+        for (const row of cover) yield row;
+      })(),
+    },
+    sheet(tabs.batches),
+    sheet(tabs.readings),
+    sheet(tabs.actions),
+  ]).then(
+    () => out.end(),
+    (error) => {
+      console.error("records export failed", error);
+      out.destroy(error);
+    },
+  );
+  return download(out, exportFileName(site.name, range, "xlsx"), "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet");
+}
+
+/** One table as CSV: UTF-8 with a byte-order mark (so spreadsheets read the accents), CRLF lines. */
+export async function exportCsv(site: Site, user: Exporter, range: ExportRange, which: ExportSheet) {
+  const ctx = await context(site, user, range, `csv:${which}`);
+  const table = tables(ctx, await userNames(site.organisationId))[which];
+  async function* lines() {
+    yield "\uFEFF" + csvLine(table.columns.map((c) => c.header));
+    let buffered = "";
+    for await (const row of table.rows()) {
+      buffered += csvLine(row.map((c) => (c instanceof Date ? c : c && typeof c === "object" ? c.url : c)));
+      if (buffered.length >= 64 * 1024) {
+        yield buffered;
+        buffered = "";
+      }
+    }
+    if (buffered) yield buffered;
+  }
+  const body = Readable.from(lines());
+  body.on("error", (error) => console.error("records export failed", error));
+  return download(body, exportFileName(site.name, range, `${which}.csv`), "text/csv; charset=utf-8");
+}
