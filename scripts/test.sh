@@ -9,7 +9,7 @@ SMTP_PORT="${CHILLWRIGHT_TEST_SMTP_PORT:-1125}"
 MAIL_WEB_PORT="${CHILLWRIGHT_TEST_MAIL_WEB_PORT:-1180}"
 RESULTS="$ROOT/test-results"
 # A test that stops and restarts maildev (SMTP outage) leaves the new one to this cleanup.
-trap 'stop_started; [ -f "$DATA/maildev-$SMTP_PORT.pid" ] && kill "$(cat "$DATA/maildev-$SMTP_PORT.pid")" 2>/dev/null; true' EXIT
+trap 'stop_started; if [ -f "$DATA/maildev-$SMTP_PORT.pid" ]; then kill "$(cat "$DATA/maildev-$SMTP_PORT.pid")" 2>/dev/null || true; fi' EXIT
 trap 'exit 130' INT TERM
 
 ensure_node_modules
