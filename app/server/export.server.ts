@@ -1,9 +1,10 @@
 // The records export: a period's batches, readings and corrective actions as a workbook or as CSV.
 // Rows are read from PostgreSQL a page of batches at a time (keyset on started-at and id, each page's
 // readings, actions, confirmations and signatures in one query each) and written as they come.
-import { PassThrough, Readable } from "node:stream";
+import { PassThrough, Readable, type Writable } from "node:stream";
 import { createReadableStreamFromReadable } from "@react-router/node";
 import { and, asc, desc, eq, gte, inArray, lt, sql } from "drizzle-orm";
+import ExcelJS from "exceljs";
 import { actionConfirmations, batches, correctiveActions, equipment, organisations, readings, products, sites, users, verifications } from "~db/schema";
 import { getI18n, type Language } from "~/lib/i18n";
 import { csvLine, exportFileName, ExportRangeSchema, lastWeek, neutraliseFormula, rangeInstants, SheetSchema, wallClock, type ExportSheet } from "~/lib/records-export";
@@ -13,7 +14,6 @@ import { recordAudit } from "./audit.server";
 import { effectiveReadings, evaluateRows, type BatchRow } from "./batches.server";
 import { db } from "./db.server";
 import { env } from "./env.server";
-import { writeWorkbook, type Cell, type SheetColumn, type SheetSpec } from "./xlsx-writer.server";
 
 type Site = typeof sites.$inferSelect;
 type Exporter = { id: string; name: string; email: string; language: Language };
@@ -125,7 +125,9 @@ async function counts(ctx: Ctx) {
 // ---------------------------------------------------------------------------------------------
 // The tables: columns and rows, shared by the workbook and the CSV files.
 
-type Column = SheetColumn & { header: string };
+export type Cell = string | number | boolean | Date | null | undefined | { url: string; text: string };
+type CellStyle = "number" | "temperature" | "datetime" | "wrap" | "label" | "header";
+type Column = { header: string; width: number; style?: CellStyle };
 type Table = { name: string; columns: Column[]; rows: () => AsyncGenerator<Cell[]> };
 
 function tables(ctx: Ctx, names: Map<string, string>) {
@@ -305,6 +307,101 @@ async function* neutralised(rows: AsyncGenerator<Cell[]>) {
 }
 
 // ---------------------------------------------------------------------------------------------
+// The workbook writer: exceljs's streaming writer, each row committed (serialised and deflated) as it
+// comes, so a long export holds about one page of rows at a time.
+
+type SheetSpec = {
+  name: string;
+  columns: { width: number; style?: CellStyle }[];
+  /** Rows above the data that repeat on every printed page and stay in view (a note, the header). */
+  headRows: { cells: Cell[]; style: CellStyle }[];
+  /** An autofilter on the last head row down to the last data row. */
+  table: boolean;
+  rows: AsyncIterable<Cell[]>;
+};
+
+const BOLD = { name: "Calibri", size: 11, bold: true };
+const TOP_WRAP = { wrapText: true, vertical: "top" } as const;
+const STYLES: Record<CellStyle | "link", Partial<ExcelJS.Style>> = {
+  number: {},
+  temperature: { numFmt: "0.0" },
+  datetime: { numFmt: "yyyy-mm-dd hh:mm" },
+  wrap: { alignment: TOP_WRAP },
+  label: { font: BOLD, alignment: { vertical: "top" } },
+  header: { font: BOLD, alignment: TOP_WRAP, fill: { type: "pattern", pattern: "solid", fgColor: { argb: "FFDCEBF5" } } },
+  link: { font: { name: "Calibri", size: 11, underline: true, color: { argb: "FF1F5F99" } } },
+};
+
+/** Waits while the response's buffer is full (the reader is slower than the database). */
+async function backpressure(out: Writable) {
+  if (!out.writableNeedDrain) return;
+  await new Promise<void>((resolve) => {
+    const done = () => {
+      out.off("drain", done);
+      out.off("close", done);
+      resolve();
+    };
+    out.on("drain", done);
+    out.on("close", done);
+  });
+  if (out.destroyed) throw new Error("the download was closed before the workbook was written");
+}
+
+/** Writes the workbook to `out` and ends it; resolves when the last byte has been handed over. */
+async function writeWorkbook(out: Writable, sheets: SheetSpec[]) {
+  const workbook = new ExcelJS.stream.xlsx.WorkbookWriter({ stream: out, useStyles: true, useSharedStrings: false });
+  for (const spec of sheets) {
+    const head = spec.headRows.length;
+    const frozen = spec.table && head > 0;
+    const sheet = workbook.addWorksheet(spec.name, {
+      views: frozen ? [{ state: "frozen", ySplit: head, topLeftCell: `A${head + 1}`, activeCell: `A${head + 1}` }] : [{ state: "normal" }],
+      pageSetup: {
+        orientation: "landscape",
+        fitToPage: true,
+        fitToWidth: 1,
+        fitToHeight: 0,
+        margins: { left: 0.4, right: 0.4, top: 0.6, bottom: 0.6, header: 0.3, footer: 0.3 },
+        ...(head ? { printTitlesRow: `1:${head}` } : {}),
+      },
+      headerFooter: { oddFooter: "&A · &P / &N" },
+    });
+    sheet.columns = spec.columns.map((c) => ({ width: c.width }));
+    const put = (cells: Cell[], rowStyle?: CellStyle) => {
+      const row = sheet.addRow([]);
+      cells.forEach((value, i) => {
+        if (value === null || value === undefined || value === "") return;
+        if (typeof value === "number" && !Number.isFinite(value)) return;
+        const cell = row.getCell(i + 1);
+        const columnStyle = spec.columns[i]?.style;
+        if (typeof value === "object" && !(value instanceof Date)) {
+          cell.value = { text: value.text, hyperlink: value.url };
+          cell.style = STYLES.link;
+          return;
+        }
+        cell.value = value;
+        // A date always shows as one; a number takes its column's format; text only a layout style.
+        const style: CellStyle | undefined =
+          value instanceof Date ? "datetime" : typeof value === "number" ? (columnStyle === "temperature" ? "temperature" : undefined) : typeof value === "string" ? (rowStyle ?? (columnStyle === "wrap" || columnStyle === "label" ? columnStyle : undefined)) : undefined;
+        if (style) cell.style = STYLES[style];
+      });
+      row.commit();
+    };
+    for (const r of spec.headRows) put(r.cells, r.style);
+    let last = head;
+    for await (const cells of spec.rows) {
+      put(cells);
+      last += 1;
+      await backpressure(out);
+    }
+    // The streaming writer writes the filter after the rows, so the range can end at the last row. It
+    // does not add the hidden _xlnm._FilterDatabase name Excel itself writes; the filter works without it.
+    if (frozen) sheet.autoFilter = { from: { row: head, column: 1 }, to: { row: last, column: Math.max(spec.columns.length, 1) } };
+    sheet.commit();
+  }
+  await workbook.commit();
+}
+
+// ---------------------------------------------------------------------------------------------
 // The two formats.
 
 async function context(site: Site, user: Exporter, range: ExportRange, format: string) {
@@ -380,13 +477,10 @@ export async function exportWorkbook(site: Site, user: Exporter, range: ExportRa
     sheet(tabs.batches),
     sheet(tabs.readings),
     sheet(tabs.actions),
-  ]).then(
-    () => out.end(),
-    (error) => {
-      console.error("records export failed", error);
-      out.destroy(error);
-    },
-  );
+  ]).catch((error) => {
+    console.error("records export failed", error);
+    out.destroy(error);
+  });
   return download(out, exportFileName(site.name, range, "xlsx"), "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet");
 }
 

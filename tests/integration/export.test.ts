@@ -1,5 +1,7 @@
 import { randomUUID } from "node:crypto";
 import { and, asc, eq, inArray, sql } from "drizzle-orm";
+import ExcelJS from "exceljs";
+import sharp from "sharp";
 import { beforeAll, describe, expect, it } from "vitest";
 import { actionConfirmations, auditEvents, correctiveActions, readings, users, verifications } from "~db/schema";
 import { en } from "~/lib/locales/en";
@@ -7,7 +9,7 @@ import { lastWeek, localDateOf, rangeInstants } from "~/lib/records-export";
 import { getRuleSet } from "~/lib/rule-sets";
 import { Client, location, signedIn } from "../helpers/client";
 import { db, newTenant } from "../helpers/db";
-import { parseCsv, readWorkbook, type ReadCell } from "../helpers/xlsx";
+import { parseCsv } from "../helpers/csv";
 
 type Tenant = Awaited<ReturnType<typeof newTenant>>;
 type RuleRecord = { outcome: string; stages: { stage: number; limit: { value: number; unit: string }; deadline: string | null; status: string; metBy: string | null }[] };
@@ -18,11 +20,28 @@ const ZONE = "America/Denver";
 // The site's wall clock of a database instant, formatted independently of the export's own code.
 const denver = new Intl.DateTimeFormat("sv-SE", { timeZone: ZONE, year: "numeric", month: "2-digit", day: "2-digit", hour: "2-digit", minute: "2-digit", hourCycle: "h23" });
 const siteClock = (d: Date | string) => denver.format(new Date(d)).replace(",", "");
+type ReadCell = ExcelJS.CellValue;
 // A spreadsheet date carries the wall clock in its UTC fields.
 const cellClock = (c: ReadCell) => {
   expect(c).toBeInstanceOf(Date);
   return (c as Date).toISOString().slice(0, 16).replace("T", " ");
 };
+
+// The workbook as exceljs reads it, and each sheet's values row by row (an empty cell is null).
+async function loadWorkbook(res: Response) {
+  const wb = new ExcelJS.Workbook();
+  await wb.xlsx.load(await res.arrayBuffer());
+  return wb;
+}
+function sheetOf(wb: ExcelJS.Workbook, name: string) {
+  const sheet = wb.getWorksheet(name);
+  expect(sheet, name).toBeDefined();
+  const rows: ReadCell[][] = [];
+  sheet!.eachRow({ includeEmpty: true }, (row, n) => {
+    rows[n - 1] = Array.from({ length: row.cellCount }, (_, i) => row.getCell(i + 1).value ?? null);
+  });
+  return { sheet: sheet!, rows: Array.from(rows, (r) => r ?? []) };
+}
 
 async function startBatch(t: Tenant, cook: Client, lotCode: string, minutesAgo: number) {
   const res = await cook.request("/api/v1/batches", {
@@ -51,6 +70,7 @@ describe("records export", () => {
   let cook: Client;
   let passed: { id: string; record: RuleRecord };
   let range: { from: string; to: string };
+  let photoId: string;
   const reason = '+1, "typo" on the keypad\nre-probed';
   const discardReason = '-2 "spoiled", left out';
   const lots = { passed: '=HYPERLINK("x")', cold: "+1", discarded: "@SUM(A1)" };
@@ -68,8 +88,13 @@ describe("records export", () => {
     await addReading(cook, a.id, { value: 118, unit: "F", takenAt: ago(150), corrects: { readingId: r120.reading.id, reason } });
     passed = { id: a.id, record: last.record };
     // A reading in °C below zero: a number, never text.
+    // It carries a photo: a link in the workbook.
+    const png = await sharp({ create: { width: 64, height: 48, channels: 3, background: "#2e86c1" } }).png().toBuffer();
+    const upload = await cook.request("/api/v1/photos", { body: png, headers: { "content-type": "application/octet-stream" } });
+    expect(upload.status).toBe(201);
+    photoId = ((await upload.json()) as { id: string }).id;
     const b = await startBatch(t, cook, lots.cold, 40);
-    await addReading(cook, b.id, { value: -2, unit: "C", takenAt: ago(30) });
+    await addReading(cook, b.id, { value: -2, unit: "C", takenAt: ago(30), photoId });
     // A discarded batch, its action confirmed and the record signed by the manager.
     const c = await startBatch(t, cook, lots.discarded, 20);
     const act = await cook.request(`/api/v1/batches/${c.id}/actions`, { json: { kind: "discard", clientId: randomUUID(), quantityKg: 4, reason: discardReason } });
@@ -100,10 +125,23 @@ describe("records export", () => {
     const res = await download(`/sites/${t.site.id}/export.xlsx?from=${range.from}&to=${range.to}`);
     expect(res.headers.get("content-type")).toBe("application/vnd.openxmlformats-officedocument.spreadsheetml.sheet");
     expect(res.headers.get("content-disposition")).toBe(`attachment; filename="kitchen-${t.org.slug.slice(7)}-cooling-records-${range.from}-to-${range.to}.xlsx"`);
-    const wb = readWorkbook(Buffer.from(await res.arrayBuffer()));
-    expect(wb.sheets.map((s) => s.name)).toEqual(["Cover", "Batches", "Readings", "Corrective actions"]);
-    const cover = new Map(wb.sheet("Cover").rows.slice(1).map((r) => [r[0], r[1]]));
-    expect(wb.sheet("Cover").rows[0][0]).toBe("Cooling records");
+    const wb = await loadWorkbook(res);
+    expect(wb.worksheets.map((s) => s.name)).toEqual(["Cover", "Batches", "Readings", "Corrective actions"]);
+    const coverSheet = sheetOf(wb, "Cover");
+    const cover = new Map(coverSheet.rows.slice(1).map((r) => [r[0], r[1]]));
+    expect(coverSheet.rows[0][0]).toBe("Cooling records");
+    // The cover scrolls freely and repeats nothing when printed; its labels are bold, its values wrap.
+    expect(coverSheet.sheet.views.map((v) => v.state)).toEqual(["normal"]);
+    expect(coverSheet.sheet.autoFilter ?? null).toBeNull();
+    expect(coverSheet.sheet.pageSetup.printTitlesRow).toBeUndefined();
+    expect(coverSheet.sheet.pageSetup).toMatchObject({ orientation: "landscape", fitToPage: true, fitToWidth: 1, fitToHeight: 0 });
+    expect([coverSheet.sheet.getColumn(1).width, coverSheet.sheet.getColumn(2).width]).toEqual([30, 100]);
+    expect(coverSheet.sheet.getCell("A2").font?.bold).toBe(true);
+    expect(coverSheet.sheet.getCell("B2").alignment?.wrapText).toBe(true);
+    const exportedAt = coverSheet.sheet.getRow(coverSheet.rows.findIndex((r) => r[0] === "Exported at (site time)") + 1).getCell(2);
+    expect(exportedAt.type).toBe(ExcelJS.ValueType.Date);
+    expect(exportedAt.value).toBeInstanceOf(Date);
+    expect(exportedAt.numFmt).toBe("yyyy-mm-dd hh:mm");
     expect(cover.get("Organisation")).toBe(`Tenant ${t.org.slug.slice(7)}`);
     expect(cover.get("Site")).toBe(t.site.name);
     expect(cover.get("Period")).toContain(`${range.from} to ${range.to}`);
@@ -120,8 +158,8 @@ describe("records export", () => {
   });
 
   it("each batch is a row with real dates in site time, numbers as numbers, the rule's deadlines and the reading that met each stage", async () => {
-    const wb = readWorkbook(Buffer.from(await (await download(`/sites/${t.site.id}/export.xlsx?from=${range.from}&to=${range.to}`)).arrayBuffer()));
-    const sheet = wb.sheet("Batches");
+    const wb = await loadWorkbook(await download(`/sites/${t.site.id}/export.xlsx?from=${range.from}&to=${range.to}`));
+    const sheet = sheetOf(wb, "Batches");
     expect(sheet.rows[0][0]).toContain(ZONE);
     const header = sheet.rows[1] as string[];
     expect(header.slice(0, 6)).toEqual(["Lot", "Product", "Started", "Rule set", "State", "Outcome"]);
@@ -134,6 +172,13 @@ describe("records export", () => {
     expect(rows).toHaveLength(3);
     // Lot codes that look like formulas come out as text with an apostrophe.
     expect(rows.map((r) => r[0])).toEqual([`'${lots.passed}`, `'${lots.cold}`, `'${lots.discarded}`]);
+    // …as plain string cells, never formulas.
+    for (let n = 3; n <= 5; n++) {
+      const lot = sheet.sheet.getRow(n).getCell(1);
+      expect(lot.type).toBe(ExcelJS.ValueType.String);
+      expect(typeof lot.value).toBe("string");
+      expect(lot.formula).toBeUndefined();
+    }
     const dbBatches = (await db.execute<{ id: string; started_at: string; ended_at: string | null }>(sql`SELECT id, started_at, ended_at FROM batches WHERE site_id = ${t.site.id} ORDER BY started_at, id`)).rows;
     dbBatches.forEach((b, i) => {
       expect(cellClock(rows[i][col("Started")])).toBe(siteClock(b.started_at));
@@ -145,6 +190,28 @@ describe("records export", () => {
     expect(a[col("Rule set")]).toBe("fda-3-501.14-a v1");
     expect(a[col("Stage 1 limit (°F)")]).toBe(70);
     expect(a[col("Stage 2 limit (°F)")]).toBe(41);
+    // Cell by cell on the first batch's row: dates are Date cells with a date format, counts and
+    // temperatures are numbers (temperatures to one decimal), text is text.
+    const cellA = (name: string) => sheet.sheet.getRow(3).getCell(col(name) + 1);
+    for (const name of ["Started", "Stage 1 deadline", "Stage 1 met at", "Stage 2 deadline", "Stage 2 met at", "Ended", "Signed at"]) {
+      expect(cellA(name).type, name).toBe(ExcelJS.ValueType.Date);
+      expect(cellA(name).value, name).toBeInstanceOf(Date);
+      expect(cellA(name).numFmt, name).toBe("yyyy-mm-dd hh:mm");
+    }
+    for (const name of ["Stage 1 limit (°F)", "Stage 1 met by (°F)", "Stage 2 limit (°F)", "Stage 2 met by (°F)"]) {
+      expect(cellA(name).type, name).toBe(ExcelJS.ValueType.Number);
+      expect(typeof cellA(name).value, name).toBe("number");
+      expect(cellA(name).numFmt, name).toBe("0.0");
+    }
+    for (const name of ["Attempts", "Readings", "Corrective actions"]) {
+      expect(cellA(name).type, name).toBe(ExcelJS.ValueType.Number);
+      expect(typeof cellA(name).value, name).toBe("number");
+    }
+    for (const name of ["Product", "Rule set", "State", "Outcome", "Verified by"]) expect(cellA(name).type, name).toBe(ExcelJS.ValueType.String);
+    // The header row is bold on a fill, the note above it bold.
+    expect(sheet.sheet.getCell("A1").font?.bold).toBe(true);
+    expect(sheet.sheet.getCell("A2").font?.bold).toBe(true);
+    expect(sheet.sheet.getCell("A2").fill).toMatchObject({ type: "pattern", pattern: "solid", fgColor: { argb: "FFDCEBF5" } });
     const { rs } = await batchReadings();
     for (const s of passed.record.stages) {
       expect(cellClock(a[col(`Stage ${s.stage} deadline`)])).toBe(siteClock(s.deadline!));
@@ -164,16 +231,18 @@ describe("records export", () => {
     expect(c[col("Corrective actions")]).toBe(1);
     expect(c[col("Actions taken")]).toBe(`discarded: ${discardReason} (4 kg)`);
     // A header that stays in view, an autofilter, landscape pages that fit the width and repeat the header.
-    expect(sheet.xml).toContain('<pane ySplit="2" topLeftCell="A3" activePane="bottomLeft" state="frozen"/>');
-    expect(sheet.xml).toMatch(/<autoFilter ref="A2:[A-Z]+5"\/>/);
-    expect(sheet.xml).toContain('<pageSetup orientation="landscape" fitToWidth="1" fitToHeight="0"/>');
-    expect(sheet.xml).toMatch(/<col min="1" max="1" width="16" customWidth="1"\/>/);
-    expect(wb.workbook).toContain(`<definedName name="_xlnm.Print_Titles" localSheetId="1">'Batches'!$1:$2</definedName>`);
+    expect(sheet.sheet.views[0]).toMatchObject({ state: "frozen", ySplit: 2, topLeftCell: "A3" });
+    expect(sheet.sheet.autoFilter).toBe(`A2:${sheet.sheet.getColumn(header.length).letter}5`);
+    expect(sheet.sheet.pageSetup).toMatchObject({ orientation: "landscape", fitToPage: true, fitToWidth: 1, fitToHeight: 0, printTitlesRow: "1:2" });
+    expect(sheet.sheet.getColumn(1).width).toBe(16);
+    expect(sheet.sheet.getColumn(col("Started") + 1).width).toBe(17);
+    expect(sheet.sheet.getColumn(col("Actions taken") + 1).width).toBe(40);
+    expect(sheet.sheet.headerFooter.oddFooter).toBe("&A · &P / &N");
   });
 
   it("the readings sheet has every reading as entered, with °C, site times, who entered it and what a correction corrects", async () => {
-    const wb = readWorkbook(Buffer.from(await (await download(`/sites/${t.site.id}/export.xlsx?from=${range.from}&to=${range.to}`)).arrayBuffer()));
-    const sheet = wb.sheet("Readings");
+    const wb = await loadWorkbook(await download(`/sites/${t.site.id}/export.xlsx?from=${range.from}&to=${range.to}`));
+    const sheet = sheetOf(wb, "Readings");
     const header = sheet.rows[1] as string[];
     const col = (name: string) => header.indexOf(name);
     const rows = sheet.rows.slice(2);
@@ -192,7 +261,29 @@ describe("records export", () => {
       expect(row[col("Late")]).toBe(r.late);
       expect(row[col("Entered by")]).toBe(who.get(r.enteredBy!));
       expect(row[col("Reading id")]).toBe(r.id);
+      const cell = (name: string) => sheet.sheet.getRow(i + 3).getCell(col(name) + 1);
+      expect(cell("Value as entered").type).toBe(ExcelJS.ValueType.Number);
+      expect(cell("°C").type).toBe(ExcelJS.ValueType.Number);
+      expect(cell("°C").numFmt).toBe("0.0");
+      for (const name of ["Taken at", "Received at"]) {
+        expect(cell(name).type, name).toBe(ExcelJS.ValueType.Date);
+        expect(cell(name).value, name).toBeInstanceOf(Date);
+        expect(cell(name).numFmt, name).toBe("yyyy-mm-dd hh:mm");
+      }
+      expect(cell("Late").type).toBe(ExcelJS.ValueType.Boolean);
+      expect(cell("Reading id").type).toBe(ExcelJS.ValueType.String);
+      // A photo is a link to it; a reading without one has an empty cell.
+      if (r.photoId) {
+        expect(cell("Photo").type).toBe(ExcelJS.ValueType.Hyperlink);
+        expect(cell("Photo").value).toEqual({ text: en.recordsSheet.photoLink, hyperlink: new URL(`/photos/${r.photoId}`, process.env.APP_URL).href });
+        expect(cell("Photo").font?.underline).toBe(true);
+      } else expect(cell("Photo").type).toBe(ExcelJS.ValueType.Null);
     });
+    expect(rs.filter((r) => r.photoId).map((r) => r.photoId)).toEqual([photoId]);
+    expect(sheet.sheet.views[0]).toMatchObject({ state: "frozen", ySplit: 2, topLeftCell: "A3" });
+    expect(sheet.sheet.autoFilter).toBe(`A2:${sheet.sheet.getColumn(header.length).letter}${rs.length + 2}`);
+    expect(sheet.sheet.pageSetup.printTitlesRow).toBe("1:2");
+    expect(header.map((_, i) => sheet.sheet.getColumn(i + 1).width).slice(0, 8)).toEqual([16, 24, 10, 10, 6, 8, 17, 17]);
     const cold = rows.find((r) => r[col("Unit")] === "°C")!;
     expect(cold[col("Value as entered")]).toBe(-2);
     expect(cold[col("°C")]).toBe(-2);
@@ -205,8 +296,8 @@ describe("records export", () => {
   });
 
   it("the corrective-actions sheet names the action, who took it and its confirmation", async () => {
-    const wb = readWorkbook(Buffer.from(await (await download(`/sites/${t.site.id}/export.xlsx?from=${range.from}&to=${range.to}`)).arrayBuffer()));
-    const sheet = wb.sheet("Corrective actions");
+    const wb = await loadWorkbook(await download(`/sites/${t.site.id}/export.xlsx?from=${range.from}&to=${range.to}`));
+    const sheet = sheetOf(wb, "Corrective actions");
     expect(sheet.rows[1]).toEqual(["Lot", "Product", "Kind", "Detail", "Taken by", "Taken at", "Confirmed by", "Confirmed at", "Confirmation note"]);
     expect(sheet.rows).toHaveLength(3);
     const [row] = sheet.rows.slice(2);
@@ -226,6 +317,12 @@ describe("records export", () => {
     ]);
     expect(cellClock(row[5])).toBe(siteClock(ca.takenAt));
     expect(cellClock(row[7])).toBe(siteClock(conf.confirmedAt));
+    expect(sheet.sheet.getCell("F3").type).toBe(ExcelJS.ValueType.Date);
+    expect(sheet.sheet.getCell("H3").numFmt).toBe("yyyy-mm-dd hh:mm");
+    expect(sheet.sheet.getCell("D3").alignment?.wrapText).toBe(true);
+    expect(sheet.sheet.views[0]).toMatchObject({ state: "frozen", ySplit: 2 });
+    expect(sheet.sheet.autoFilter).toBe("A2:I3");
+    expect(sheet.sheet.pageSetup.printTitlesRow).toBe("1:2");
   });
 
   it("CSV quotes commas, quotes and line breaks, neutralises formula-like text, keeps numbers as numbers and starts with a BOM", async () => {
@@ -270,10 +367,10 @@ describe("records export", () => {
     const week = lastWeek(ZONE);
     expect(new Date(`${week.from}T12:00:00Z`).getUTCDay()).toBe(1);
     expect(res.headers.get("content-disposition")).toContain(`-${week.from}-to-${week.to}.xlsx"`);
-    const wb = readWorkbook(Buffer.from(await res.arrayBuffer()));
+    const wb = await loadWorkbook(res);
     const { fromMs, toMs } = rangeInstants(week, ZONE);
     const [{ n }] = (await db.execute<{ n: number }>(sql`SELECT count(*)::int AS n FROM batches WHERE site_id = ${t.site.id} AND started_at >= ${new Date(fromMs).toISOString()}::timestamptz AND started_at < ${new Date(toMs).toISOString()}::timestamptz`)).rows;
-    expect(wb.sheet("Batches").rows).toHaveLength(2 + n);
+    expect(sheetOf(wb, "Batches").rows).toHaveLength(2 + n);
   });
 
   it("cooks are refused, another organisation's site is not found, and signed-out visitors go to sign-in", async () => {
