@@ -5,9 +5,12 @@
  *
  * - missed_stage: a deadline of the current attempt passed without a reading at or below its limit,
  *   and the batch is still cooling (or was discarded and nobody has signed it yet).
- * - off_track: still cooling and the prediction says it will miss (verdict "behind").
+ * - off_track: still cooling, no stage missed yet, and the prediction says it will miss (verdict "behind").
  * - reading_overdue: still cooling and the next reading is later than its due time plus the site's grace.
- * - at_risk: still cooling and the prediction says it is cutting it close (verdict "tight").
+ * - at_risk: still cooling, no stage missed yet, and the prediction says it is cutting it close (verdict "tight").
+ *
+ * Once the record shows a missed stage, the forecast is moot: such a batch carries missed_stage and
+ * neither off_track nor at_risk (as the alerts raise no off-track alert for it).
  * - action_to_confirm: a corrective action nobody has confirmed yet.
  * - changed_after_signing: ended and signed, but the record gained entries or actions since.
  * - awaiting_verification: ended and never signed.

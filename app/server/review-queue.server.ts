@@ -19,12 +19,14 @@ export function reasonConditions(now: Date): Record<ReasonCode, SQL<boolean>> {
   const covered = sql`(select ${verifications.readingsCovered} = ${readingCount} and ${verifications.actionsCovered} = ${actionCount} from ${verifications} where ${verifications.batchId} = ${batches.id} order by ${verifications.signedAt} desc limit 1)`;
   const ended = sql`${batches.state} <> 'cooling'`;
   const cooling = sql`${batches.state} = 'cooling'`;
+  // A forecast says nothing more once the record shows a stage missed: the miss is the reason.
+  const forecastOpen = sql`${batches.missedAt} is null`;
   return {
     // A discarded batch keeps its missed stage in the queue until a signature covers it.
     missed_stage: sql<boolean>`(${batches.missedAt} is not null and (${cooling} or (${batches.state} = 'discarded' and not coalesce(${covered}, false))))`,
-    off_track: sql<boolean>`(${cooling} and ${batches.verdict} = 'behind')`,
+    off_track: sql<boolean>`(${cooling} and ${forecastOpen} and ${batches.verdict} = 'behind')`,
     reading_overdue: sql<boolean>`(${cooling} and ${batches.nextReadingDueAt} + make_interval(mins => ${sites.overdueGraceMinutes}) < ${at})`,
-    at_risk: sql<boolean>`(${cooling} and ${batches.verdict} = 'tight')`,
+    at_risk: sql<boolean>`(${cooling} and ${forecastOpen} and ${batches.verdict} = 'tight')`,
     action_to_confirm: sql<boolean>`exists (select 1 from ${correctiveActions} where ${correctiveActions.batchId} = ${batches.id} and not exists (select 1 from ${actionConfirmations} where ${actionConfirmations.correctiveActionId} = ${correctiveActions.id}))`,
     changed_after_signing: sql<boolean>`(${ended} and ${signed} and not coalesce(${covered}, false))`,
     awaiting_verification: sql<boolean>`(${ended} and not ${signed})`,

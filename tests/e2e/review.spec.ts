@@ -1,5 +1,5 @@
 import { createProduct } from "../../db/factories";
-import { addAction, insertBatch, minutesAgo } from "../helpers/batches";
+import { addAction, afterSweep, coolingBatch, endedBatch, minutesAgo } from "../helpers/batches";
 import { db, newTenant } from "../helpers/db";
 import { expect, SCREENS, signIn, test } from "./fixtures";
 
@@ -9,13 +9,16 @@ test.use({ viewport: { width: 820, height: 1180 } });
 async function kitchen() {
   const t = await newTenant();
   const compote = await createProduct(db, { siteId: t.site.id, name: "Apple compote", composition: { water: 85, carbohydrate: 14, fibre: 1 } });
-  const offTrack = await insertBatch(t, { verdict: "behind", lotCode: "OT-7", startedAt: minutesAgo(95) });
-  await insertBatch(t, { verdict: "tight", lotCode: "AR-3", startedAt: minutesAgo(70), productId: compote.id });
-  await insertBatch(t, { lotCode: "OD-2", nextReadingDueAt: minutesAgo(25), startedAt: minutesAgo(80) });
-  const moved = await insertBatch(t, { lotCode: "MV-1", startedAt: minutesAgo(40) });
+  // The cooling batches' forecasts and due times are the engine's, from their pans, methods and readings.
+  const offTrack = await coolingBatch(t, { verdict: "behind", lotCode: "OT-7", startedMinutesAgo: 20 });
+  await coolingBatch(t, { verdict: "tight", lotCode: "AR-3", productId: compote.id });
+  // 45 min since its only reading: past the 30-min interval and the 10-min grace.
+  await coolingBatch(t, { lotCode: "OD-2", startedMinutesAgo: 45 });
+  const moved = await coolingBatch(t, { lotCode: "MV-1" });
   await addAction(t, moved.id);
-  await insertBatch(t, { state: "cooled", endedAt: minutesAgo(30), nextReadingDueAt: null, lotCode: "DN-5", startedAt: minutesAgo(300), productId: compote.id });
-  await insertBatch(t, { state: "cooled", endedAt: minutesAgo(20), nextReadingDueAt: null, lotCode: "DN-6", startedAt: minutesAgo(280) });
+  await endedBatch(t, { state: "cooled", endedAt: minutesAgo(30), lotCode: "DN-5", startedAt: minutesAgo(300), productId: compote.id });
+  await endedBatch(t, { state: "cooled", endedAt: minutesAgo(20), lotCode: "DN-6", startedAt: minutesAgo(280) });
+  await afterSweep(t);
   return { t, offTrack };
 }
 

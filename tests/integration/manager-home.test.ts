@@ -2,7 +2,7 @@ import { eq, sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { equipment } from "~db/schema";
 import { createEquipment } from "~db/factories";
-import { insertBatch, minutesAgo } from "../helpers/batches";
+import { afterSweep, coolingBatch, endedBatch, minutesAgo } from "../helpers/batches";
 import { signedIn } from "../helpers/client";
 import { db, newTenant } from "../helpers/db";
 
@@ -36,7 +36,7 @@ async function unitWith(t: Tenant, name: string, lnS: number[], learnedSd = 0.1)
   const mean = lnS.reduce((a, b) => a + b, 0) / lnS.length;
   await db.update(equipment).set({ learnedLnS: mean, learnedSd, learnedBatches: lnS.length }).where(eq(equipment.id, unit.id));
   for (const [i, x] of lnS.entries()) {
-    await insertBatch(t, { equipmentId: unit.id, state: "cooled", startedAt: minutesAgo(60 * 24 * (lnS.length - i) + 300), endedAt: minutesAgo(60 * 24 * (lnS.length - i)), nextReadingDueAt: null, fittedLnS: x, lotCode: `${name}-${i}` });
+    await endedBatch(t, { equipmentId: unit.id, state: "cooled", startedAt: minutesAgo(60 * 24 * (lnS.length - i) + 300), endedAt: minutesAgo(60 * 24 * (lnS.length - i)), fittedLnS: x, lotCode: `${name}-${i}` });
   }
   return unit;
 }
@@ -46,7 +46,7 @@ describe("manager's home", () => {
     const t = await newTenant(); // America/Denver
     const monday = await weekStart("America/Denver");
     const at = (minutes: number) => new Date(monday.getTime() + minutes * 60_000);
-    const ended = (state: "cooled" | "cooled_after_reheat" | "discarded", endedAt: Date) => insertBatch(t, { state, endedAt, startedAt: new Date(endedAt.getTime() - 4 * 3600_000), nextReadingDueAt: null });
+    const ended = (state: "cooled" | "cooled_after_reheat" | "discarded", endedAt: Date) => endedBatch(t, { state, endedAt, startedAt: new Date(endedAt.getTime() - 4 * 3600_000) });
     await ended("cooled", at(30));
     await ended("cooled", at(90));
     await ended("cooled_after_reheat", at(120));
@@ -54,7 +54,7 @@ describe("manager's home", () => {
     // Sunday 23:30 in Denver is already Monday in UTC: it belongs to last week here.
     await ended("cooled", at(-30));
     await ended("discarded", at(-60 * 24));
-    await insertBatch(t); // still cooling: not ended
+    await coolingBatch(t); // still cooling: not ended
     const html = await home(t);
     const pass = section(html, "glance-pass");
     expect(pass).toContain("50 %");
@@ -68,21 +68,25 @@ describe("manager's home", () => {
 
   it("counts the batches at risk now and the readings overdue, and lists what is cooling with its forecast", async () => {
     const t = await newTenant();
-    await insertBatch(t, { verdict: "tight", lotCode: "T-1" });
-    await insertBatch(t, { verdict: "behind", lotCode: "B-1" });
-    await insertBatch(t, { verdict: "ahead", lotCode: "A-1", nextReadingDueAt: minutesAgo(20) });
-    await insertBatch(t, { verdict: "ahead", lotCode: "A-2", nextReadingDueAt: minutesAgo(5) }); // within the 10-min grace
-    await insertBatch(t, { verdict: "behind", state: "cooled", endedAt: minutesAgo(5), nextReadingDueAt: null, lotCode: "E-1" }); // ended: not at risk
+    await coolingBatch(t, { verdict: "tight", lotCode: "T-1" });
+    await coolingBatch(t, { verdict: "behind", lotCode: "B-1", startedMinutesAgo: 20 });
+    // A reading every 30 min with 10 min of grace: 50 min since the last is overdue, 35 min is not yet.
+    await coolingBatch(t, { lotCode: "A-1", startedMinutesAgo: 50 });
+    await coolingBatch(t, { lotCode: "A-2", startedMinutesAgo: 35 });
+    // A stage already missed is the record, not a forecast: not counted at risk.
+    await coolingBatch(t, { verdict: "behind", lotCode: "M-1", startedMinutesAgo: 150, readings: [[5, 100]] });
+    await endedBatch(t, { verdict: "behind", state: "cooled", endedAt: minutesAgo(5), lotCode: "E-1" }); // ended: not at risk
+    await afterSweep(t);
     const html = await home(t);
     expect(section(html, "glance-at-risk")).toMatch(/^ ?At risk now 2 /);
     expect(section(html, "glance-overdue")).toMatch(/^ ?Readings overdue 1 /);
     const active = text(html.slice(html.indexOf('data-testid="glance-active"'), html.indexOf("</ul>", html.indexOf('data-testid="glance-active"'))));
-    for (const lot of ["T-1", "B-1", "A-1", "A-2"]) expect(active).toContain(`lot ${lot}`);
+    for (const lot of ["T-1", "B-1", "A-1", "A-2", "M-1"]) expect(active).toContain(`lot ${lot}`);
     expect(active).not.toContain("E-1");
     expect(active).toContain("Cutting it close");
     expect(active).toContain("Will miss");
     expect(html).toContain("Predictions are guidance.");
-    expect((html.match(/href="\/sites\/[^"]+\/batches\/[0-9a-f-]{36}"/g) ?? []).length).toBe(4);
+    expect((html.match(/href="\/sites\/[^"]+\/batches\/[0-9a-f-]{36}"/g) ?? []).length).toBe(5);
   });
 
   it("flags a walk-in whose last three batches cooled clearly slower, and not a steady one", async () => {
@@ -105,7 +109,7 @@ describe("manager's home", () => {
 
   it("a cook keeps the home they had: no day at a glance", async () => {
     const t = await newTenant();
-    await insertBatch(t, { verdict: "behind" });
+    await coolingBatch(t, { verdict: "behind" });
     const html = await home(t, "cook");
     expect(html).not.toContain("Today at a glance");
     expect(html).toContain("Cooling rule in force");
@@ -118,7 +122,7 @@ describe("equipment page", () => {
     const unit = await unitWith(t, "Walk-in East", [0, 0.05, -0.05, 0.02, -0.5, -0.45, -0.55]);
     await db.update(equipment).set({ learnedLnS: Math.log(0.8), learnedSd: 0.1, learnedBatches: 7 }).where(eq(equipment.id, unit.id));
     // Ended on this unit without enough readings to fit: nothing learned from it.
-    await insertBatch(t, { equipmentId: unit.id, state: "cooled", endedAt: minutesAgo(10), nextReadingDueAt: null, fittedLnS: null, lotCode: "NOFIT-1" });
+    await endedBatch(t, { equipmentId: unit.id, state: "cooled", endedAt: minutesAgo(10), fittedLnS: null, lotCode: "NOFIT-1" });
     const manager = await signedIn(t.people.manager.email, t.people.manager.password);
     const res = await manager.get(`/sites/${t.site.id}/equipment/${unit.id}`);
     expect(res.status).toBe(200);

@@ -1,9 +1,9 @@
 import { randomUUID } from "node:crypto";
-import { eq } from "drizzle-orm";
+import { eq, inArray } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { actionConfirmations, batches } from "~db/schema";
 import { createProduct } from "~db/factories";
-import { addAction, addReading, insertBatch, minutesAgo, sign } from "../helpers/batches";
+import { addAction, addReading, afterSweep, coolingBatch, endedBatch, minutesAgo, sign } from "../helpers/batches";
 import { Client, signedIn } from "../helpers/client";
 import { db, newTenant } from "../helpers/db";
 
@@ -36,31 +36,35 @@ describe("review queue", () => {
     t = await newTenant();
     manager = await signedIn(t.people.manager.email, t.people.manager.password);
     const apple = await createProduct(db, { siteId: t.site.id, name: "Apple compote", composition: { water: 85, carbohydrate: 14, fibre: 1 } });
-    b.offTrack = (await insertBatch(t, { verdict: "behind", lotCode: "OT-1", startedAt: minutesAgo(90) })).id;
-    b.atRisk = (await insertBatch(t, { verdict: "tight", lotCode: "AR-1", startedAt: minutesAgo(80), productId: apple.id })).id;
-    b.missed = (await insertBatch(t, { missedAt: minutesAgo(5), lotCode: "MS-1", startedAt: minutesAgo(150) })).id;
-    // Grace is 10 min: 15 min past due is overdue, 5 min past is not yet.
-    b.overdue = (await insertBatch(t, { nextReadingDueAt: minutesAgo(15), lotCode: "OD-1", startedAt: minutesAgo(70) })).id;
-    b.inGrace = (await insertBatch(t, { nextReadingDueAt: minutesAgo(5), lotCode: "GR-1" })).id;
-    b.toConfirm = (await insertBatch(t, { lotCode: "AC-1", startedAt: minutesAgo(50) })).id;
+    // Each cooling batch's reason comes from the engine, on its pan, method and readings.
+    b.offTrack = (await coolingBatch(t, { verdict: "behind", lotCode: "OT-1", startedMinutesAgo: 20 })).id;
+    b.atRisk = (await coolingBatch(t, { verdict: "tight", lotCode: "AR-1", productId: apple.id })).id;
+    // In two and a half hours still at 100 °F: stage 1 (70 °F within 2 h) is missed, and the forecast is bleak too.
+    b.missed = (await coolingBatch(t, { verdict: "behind", lotCode: "MS-1", startedMinutesAgo: 150, readings: [[5, 100]] })).id;
+    // A reading is due every 30 min, with 10 min of grace: 45 min since the last one is overdue, 35 is not yet.
+    b.overdue = (await coolingBatch(t, { lotCode: "OD-1", startedMinutesAgo: 45 })).id;
+    b.inGrace = (await coolingBatch(t, { lotCode: "GR-1", startedMinutesAgo: 35 })).id;
+    b.toConfirm = (await coolingBatch(t, { lotCode: "AC-1" })).id;
     await addAction(t, b.toConfirm);
-    b.confirmed = (await insertBatch(t, { lotCode: "CF-1" })).id;
+    b.confirmed = (await coolingBatch(t, { lotCode: "CF-1" })).id;
     const done = await addAction(t, b.confirmed);
     await db.insert(actionConfirmations).values({ correctiveActionId: done.id, batchId: b.confirmed, siteId: t.site.id, confirmedBy: t.people.manager.id });
-    const ended = { state: "cooled" as const, endedAt: minutesAgo(10), nextReadingDueAt: null };
-    b.unsigned = (await insertBatch(t, { ...ended, lotCode: "UN-1", startedAt: minutesAgo(300), productId: apple.id })).id;
-    b.signed = (await insertBatch(t, { ...ended, lotCode: "SG-1" })).id;
+    const ended = { state: "cooled" as const, endedAt: minutesAgo(10) };
+    b.unsigned = (await endedBatch(t, { ...ended, lotCode: "UN-1", startedAt: minutesAgo(300), productId: apple.id })).id;
+    b.signed = (await endedBatch(t, { ...ended, lotCode: "SG-1" })).id;
     await sign(t, b.signed, { readings: 1, actions: 0 });
-    b.changed = (await insertBatch(t, { ...ended, lotCode: "CH-1", startedAt: minutesAgo(200) })).id;
+    b.changed = (await endedBatch(t, { ...ended, lotCode: "CH-1", startedAt: minutesAgo(200) })).id;
     await sign(t, b.changed, { readings: 1, actions: 0 });
     await addReading(t, b.changed, 40);
-    b.discarded = (await insertBatch(t, { state: "discarded", endedAt: minutesAgo(3), nextReadingDueAt: null, missedAt: minutesAgo(20), lotCode: "DC-1", startedAt: minutesAgo(250) })).id;
-    b.quiet = (await insertBatch(t, { lotCode: "QT-1" })).id;
+    b.discarded = (await endedBatch(t, { state: "discarded", endedAt: minutesAgo(3), missedAt: minutesAgo(20), verdict: "behind", lotCode: "DC-1", startedAt: minutesAgo(250) })).id;
+    b.quiet = (await coolingBatch(t, { lotCode: "QT-1" })).id;
     // Lot codes with LIKE's wildcards in them, waiting for a signature.
-    b.percent = (await insertBatch(t, { ...ended, lotCode: "PCT%1" })).id;
-    b.percentLookalike = (await insertBatch(t, { ...ended, lotCode: "PCTX1" })).id;
-    b.underscore = (await insertBatch(t, { ...ended, lotCode: "U_2" })).id;
-    b.underscoreLookalike = (await insertBatch(t, { ...ended, lotCode: "UX2" })).id;
+    b.percent = (await endedBatch(t, { ...ended, lotCode: "PCT%1" })).id;
+    b.percentLookalike = (await endedBatch(t, { ...ended, lotCode: "PCTX1" })).id;
+    b.underscore = (await endedBatch(t, { ...ended, lotCode: "U_2" })).id;
+    b.underscoreLookalike = (await endedBatch(t, { ...ended, lotCode: "UX2" })).id;
+    // What the tests read is what the alert sweep leaves, not only what was written here.
+    await afterSweep(t);
   });
 
   it("each reason shows on the batch that has it and on no other; batches that need nothing are left out", async () => {
@@ -77,6 +81,10 @@ describe("review queue", () => {
     expect(reasonsOf(b.discarded)).toEqual(["missed_stage", "awaiting_verification"]);
     for (const id of [b.inGrace, b.confirmed, b.signed, b.quiet]) expect(reasonsOf(id)).toBeUndefined();
     expect(rows).toHaveLength(12);
+    // The engine forecasts a miss for the batch that has missed, but the record's miss is its one reason.
+    const [missed] = await db.select().from(batches).where(eq(batches.id, b.missed));
+    expect(missed.missedAt).not.toBeNull();
+    expect(missed.verdict).toBe("behind");
   });
 
   it("sorts worst first by default, and by start, product or next reading due in either direction", async () => {
@@ -102,6 +110,9 @@ describe("review queue", () => {
     // The most overdue first; ended batches, with nothing due, last either way.
     const due = (await queue(manager, t, "?size=50&sort=due")).ids;
     expect(due[0]).toBe(b.overdue);
+    const cooling = [b.missed, b.offTrack, b.overdue, b.atRisk, b.toConfirm];
+    const dueAt = await db.select({ id: batches.id, at: batches.nextReadingDueAt }).from(batches).where(inArray(batches.id, cooling));
+    expect(due.slice(0, 5)).toEqual(dueAt.sort((x, y) => x.at!.getTime() - y.at!.getTime()).map((r) => r.id));
     const dueDesc = (await queue(manager, t, "?size=50&sort=due&dir=desc")).ids;
     const ended = [b.unsigned, b.changed, b.discarded, b.percent, b.percentLookalike, b.underscore, b.underscoreLookalike].sort();
     expect(due.slice(-7).sort()).toEqual(ended);
