@@ -325,6 +325,12 @@ export async function sweep(now = Date.now()) {
           console.error(`alert sweep, batch ${row.batch.id}:`, e instanceof Error ? e.message : e);
         }
       }
+      // Every batch still cooling was assessed just now, changed or not (one statement for all).
+      if (list.length)
+        await db
+          .update(batches)
+          .set({ assessedAt: new Date(now) })
+          .where(and(inArray(batches.id, list.map((r) => r.batch.id)), eq(batches.state, "cooling")));
       // Batches that ended since the last pass: their open events are settled.
       await db
         .update(alertEvents)
