@@ -16,7 +16,7 @@ export default defineConfig({
           include: ["tests/integration/**/*.test.ts"],
           environment: "node",
           fileParallelism: false,
-          testTimeout: 30_000,
+          testTimeout: 60_000,
           hookTimeout: 60_000,
           globalSetup: ["tests/integration/global-setup.ts"],
         },

@@ -51,7 +51,7 @@ const eventsOf = (batchId: string, kind?: Kind) =>
 
 const deliveriesOf = (eventId: string) => db.select().from(alertDeliveries).where(eq(alertDeliveries.eventId, eventId)).orderBy(alertDeliveries.level);
 
-async function mailAbout(email: string, lotCode: string, subject: RegExp, timeoutMs = 15_000) {
+async function mailAbout(email: string, lotCode: string, subject: RegExp, timeoutMs = 30_000) {
   return until(`a mail to ${email} about ${lotCode}`, async () => (await mailsTo(email)).find((m) => m.subject.includes(lotCode) && subject.test(m.subject)), timeoutMs);
 }
 
