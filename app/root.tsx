@@ -1,3 +1,4 @@
+import { useEffect } from "react";
 import { I18nextProvider } from "react-i18next";
 import {
   data,
@@ -73,6 +74,10 @@ export function Layout({ children }: { children: React.ReactNode }) {
 }
 
 export default function App() {
+  // Marks the page as interactive (the end-to-end tests wait for it before tapping client-side controls).
+  useEffect(() => {
+    document.documentElement.dataset.hydrated = "true";
+  }, []);
   return <Outlet />;
 }
 

@@ -1,6 +1,6 @@
 import type { Page } from "@playwright/test";
 import { cameraJpeg } from "../helpers/images";
-import { demo, expect, SCREENS, signIn, test } from "./fixtures";
+import { demo, expect, SCREENS, signIn, tapPerson, test } from "./fixtures";
 
 async function stationWithCook(page: Page, site: "harbor" | "wattle", name: string) {
   await signIn(page, demo(site, "manager").email);
@@ -8,7 +8,7 @@ async function stationWithCook(page: Page, site: "harbor" | "wattle", name: stri
   await page.getByLabel("Station name").fill(name);
   await page.getByRole("button", { name: "Make this a station" }).click();
   const cook = demo(site, "cook");
-  await page.getByRole("button", { name: new RegExp(cook.name) }).click();
+  await tapPerson(page, cook.name);
   for (const d of cook.pin) await page.getByRole("button", { name: d, exact: true }).click();
   await page.getByRole("button", { name: "OK" }).click();
   if ((await page.locator("html").getAttribute("lang")) === "es") await page.getByRole("button", { name: /English/ }).click();
@@ -108,7 +108,7 @@ test("a bad temperature gets a message on the field and stores nothing", async (
   await page.getByLabel("Station name").fill("Prep tablet");
   await page.getByRole("button", { name: "Make this a station" }).click();
   const cook = demo("wattle", "cook");
-  await page.getByRole("button", { name: new RegExp(cook.name) }).click();
+  await tapPerson(page, cook.name);
   for (const d of cook.pin) await page.getByRole("button", { name: d, exact: true }).click();
   await page.getByRole("button", { name: "OK" }).click();
   await page.getByRole("link", { name: "Start a batch" }).click();

@@ -21,6 +21,14 @@ export { expect };
 
 export const demo = (site: "harbor" | "wattle", role: "cook" | "manager" | "qa" | "admin") => demoUsers.find((u) => u.site === site && u.role === role)!;
 
+/** Taps a person on the station once the page is interactive (a tap before hydration would be lost). */
+export async function tapPerson(page: Page, name: string) {
+  const button = page.getByRole("button", { name: new RegExp(name) });
+  await button.waitFor();
+  await page.locator("html[data-hydrated]").waitFor({ state: "attached" });
+  await button.click();
+}
+
 export async function signIn(page: Page, email: string, password = DEMO_PASSWORD) {
   await page.goto("/signin");
   await page.getByLabel(/e-mail|correo/i).fill(email);

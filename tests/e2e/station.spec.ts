@@ -1,4 +1,4 @@
-import { demo, expect, SCREENS, signIn, test } from "./fixtures";
+import { demo, expect, SCREENS, signIn, tapPerson, test } from "./fixtures";
 
 test("a manager turns a tablet into a station; a cook taps their name and logs in with the keypad", async ({ page }) => {
   await signIn(page, demo("wattle", "manager").email);
@@ -11,7 +11,7 @@ test("a manager turns a tablet into a station; a cook taps their name and logs i
   await page.screenshot({ path: `${SCREENS}/station-people.png`, fullPage: true });
 
   const cook = demo("wattle", "cook");
-  await page.getByRole("button", { name: new RegExp(cook.name) }).click();
+  await tapPerson(page, cook.name);
   for (const d of "1234") await page.getByRole("button", { name: d, exact: true }).click();
   await page.getByRole("button", { name: "OK" }).click();
   await expect(page.getByRole("alert")).toContainText("Wrong PIN. 4 tries left");
