@@ -2,11 +2,11 @@ import { and, desc, eq, inArray, isNull, sql } from "drizzle-orm";
 import { useTranslation } from "react-i18next";
 import { data, Form, Link, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
-import { alertDeliveries, alertEvents, alertRecipients, batches, memberships, products, sites, users } from "~db/schema";
+import { alertDeliveries, alertEvents, batches, products, sites, users } from "~db/schema";
 import { Field, Notice } from "~/components/frame";
 import { fieldErrors } from "~/lib/forms";
 import { siteTime } from "~/lib/site-time";
-import { acknowledge, alertKinds, recipientsFor, retryDelivery, setRecipients, type AlertKind } from "~/server/alerts.server";
+import { acknowledge, alertKinds, alertMembers, effectiveRecipients, retryDelivery, savedLists, setRecipients, type AlertKind } from "~/server/alerts.server";
 import { recordAudit } from "~/server/audit.server";
 import { db } from "~/server/db.server";
 import { can, isUuid, requireRole } from "~/server/guards.server";
@@ -39,20 +39,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
         .where(inArray(alertDeliveries.eventId, events.map((e) => e.event.id)))
         .orderBy(alertDeliveries.level)
     : [];
-  const people = await db
-    .select({ id: users.id, name: users.name, role: memberships.role })
-    .from(memberships)
-    .innerJoin(users, eq(users.id, memberships.userId))
-    .where(and(eq(memberships.siteId, site.id), eq(users.active, true), inArray(memberships.role, ["manager", "admin", "qa"])))
-    .orderBy(users.name);
-  const listed = await db.select().from(alertRecipients).where(eq(alertRecipients.siteId, site.id));
-  const effective = Object.fromEntries(await Promise.all(alertKinds.map(async (k) => [k, (await recipientsFor(site.id, k)).map((r) => r.id)] as const)));
+  const [members, listed] = await Promise.all([alertMembers(site.id), savedLists(site.id)]);
+  const people = members.map(({ id, name, role }) => ({ id, name, role }));
+  const effective = Object.fromEntries(alertKinds.map((k) => [k, effectiveRecipients(members, listed, k).map((r) => r.id)]));
   return {
     filter,
     timeZone: site.timeZone,
     timing: { escalateAfterMinutes: site.escalateAfterMinutes, digestHour: site.digestHour },
     people,
-    lists: Object.fromEntries(alertKinds.map((k) => [k, listed.filter((l) => l.kind === k).sort((a, b) => a.position - b.position).map((l) => l.userId)])) as Record<AlertKind, string[]>,
+    lists: Object.fromEntries(alertKinds.map((k) => [k, listed.filter((l) => l.kind === k).map((l) => l.userId)])) as Record<AlertKind, string[]>,
     effective: effective as Record<AlertKind, string[]>,
     events: events.map(({ event, product, lotCode, ackBy }) => ({
       id: event.id,

@@ -23,14 +23,37 @@ export function setEnqueue(fn: typeof enqueue) {
  * members of the site with a role that may act on alerts.
  */
 export async function recipientsFor(siteId: string, kind: AlertKind) {
-  const eligible = await db
+  const [members, listed] = await Promise.all([alertMembers(siteId), savedLists(siteId, kind)]);
+  return effectiveRecipients(members, listed, kind);
+}
+
+/** The site's active people who may receive some alert (managers, administrators, QA), by name. */
+export function alertMembers(siteId: string) {
+  return db
     .select({ id: users.id, name: users.name, email: users.email, language: users.language, role: memberships.role })
     .from(memberships)
     .innerJoin(users, eq(users.id, memberships.userId))
-    .where(and(eq(memberships.siteId, siteId), eq(users.active, true), inArray(memberships.role, kind === "verification_digest" ? ["manager", "admin", "qa"] : ["manager", "admin"])))
+    .where(and(eq(memberships.siteId, siteId), eq(users.active, true), inArray(memberships.role, ["manager", "admin", "qa"])))
     .orderBy(asc(users.name));
-  const listed = await db.select().from(alertRecipients).where(and(eq(alertRecipients.siteId, siteId), eq(alertRecipients.kind, kind))).orderBy(asc(alertRecipients.position));
-  const chosen = listed.map((l) => eligible.find((e) => e.id === l.userId)).filter((e) => e !== undefined);
+}
+type Member = Awaited<ReturnType<typeof alertMembers>>[number];
+
+/** QA receives only the digest; managers and administrators receive every kind. */
+export const mayReceive = (m: Pick<Member, "role">, kind: AlertKind) => kind === "verification_digest" || m.role !== "qa";
+
+/** The saved lists of a site (one kind, or all), in order. */
+export function savedLists(siteId: string, kind?: AlertKind) {
+  return db
+    .select()
+    .from(alertRecipients)
+    .where(and(eq(alertRecipients.siteId, siteId), kind ? eq(alertRecipients.kind, kind) : undefined))
+    .orderBy(asc(alertRecipients.position));
+}
+
+/** A kind's recipients from the site's members and its saved lists: the list, else the managers, else the administrators. */
+export function effectiveRecipients(members: Member[], listed: { kind: AlertKind; userId: string }[], kind: AlertKind) {
+  const eligible = members.filter((m) => mayReceive(m, kind));
+  const chosen = listed.filter((l) => l.kind === kind).map((l) => eligible.find((e) => e.id === l.userId)).filter((e) => e !== undefined);
   // A list whose people have all left or been deactivated falls back to the default, never to nobody.
   if (chosen.length) return chosen;
   const managers = eligible.filter((e) => e.role === "manager");
@@ -317,8 +340,8 @@ export async function sweep(now = Date.now()) {
         // One batch that cannot be assessed or alerted must not stop the others, nor the digests.
         try {
           const site = siteRows.find((s) => s.id === row.batch.siteId)!;
-          await refreshSnapshot(site, row.batch.id, row.assessment, now, undefined, row.batch);
           const last = row.readings.length ? Math.max(...row.readings.map((r) => r.takenAt.getTime())) : null;
+          await refreshSnapshot(site, row.batch.id, row.assessment, now, undefined, { row: row.batch, lastReadingAt: last });
           const lastReceived = Math.max(row.batch.createdAt.getTime(), ...row.readings.map((r) => r.receivedAt.getTime()));
           await alertsForBatch(site, row.batch, row.product.name, row.assessment, last, now, now - lastReceived >= env.ALERT_SETTLE_SECONDS * 1000);
         } catch (e) {
@@ -385,14 +408,10 @@ export async function retryDelivery(site: Site, userId: string, deliveryId: stri
  * that kind at the site, or nothing changes. Returns the first kind that has someone who cannot.
  */
 export async function setRecipients(site: Site, userId: string, lists: Record<AlertKind, string[]>): Promise<AlertKind | null> {
-  const eligible = await db
-    .select({ id: users.id, role: memberships.role })
-    .from(memberships)
-    .innerJoin(users, eq(users.id, memberships.userId))
-    .where(and(eq(memberships.siteId, site.id), eq(users.active, true), inArray(memberships.role, ["manager", "admin", "qa"])));
+  const eligible = await alertMembers(site.id);
   const cleaned = {} as Record<AlertKind, string[]>;
   for (const kind of alertKinds) {
-    const ok = new Set(eligible.filter((e) => kind === "verification_digest" || e.role !== "qa").map((e) => e.id));
+    const ok = new Set(eligible.filter((e) => mayReceive(e, kind)).map((e) => e.id));
     const unique = [...new Set(lists[kind] ?? [])];
     if (unique.some((id) => !ok.has(id))) return kind;
     cleaned[kind] = unique;

@@ -406,9 +406,17 @@ export async function settleState(site: Site, batchId: string, now: number) {
  * earliest missed deadline and when the next reading is due. Refreshed after every entry and by the
  * alert sweep; they are a cache of the assessment, never the record.
  */
-export async function refreshSnapshot(site: Site, batchId: string, a: Assessment, now: number, state?: string, known?: typeof batches.$inferSelect) {
+export async function refreshSnapshot(
+  site: Site,
+  batchId: string,
+  a: Assessment,
+  now: number,
+  state?: string,
+  known?: { row: typeof batches.$inferSelect; lastReadingAt: number | null },
+) {
   const current = a.evaluation.attempts.at(-1);
-  const last = a.evaluation.stages.length ? await lastReadingAt(batchId) : null;
+  // The sweep has the readings in hand already; an entry's settling asks the database.
+  const last = known ? known.lastReadingAt : a.evaluation.stages.length ? await lastReadingAt(batchId) : null;
   const ended = state ? state !== "cooling" : false;
   const next = {
     verdict: a.prediction.verdict,
@@ -417,7 +425,8 @@ export async function refreshSnapshot(site: Site, batchId: string, a: Assessment
   };
   // The sweep passes the row it read: nothing to write when nothing changed.
   const same = (x: Date | null, y: Date | null) => (x?.getTime() ?? null) === (y?.getTime() ?? null);
-  if (known && known.verdict === next.verdict && same(known.missedAt, next.missedAt) && same(known.nextReadingDueAt, next.nextReadingDueAt)) return;
+  const was = known?.row;
+  if (was && was.verdict === next.verdict && same(was.missedAt, next.missedAt) && same(was.nextReadingDueAt, next.nextReadingDueAt)) return;
   await db
     .update(batches)
     .set({
