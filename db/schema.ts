@@ -2,6 +2,7 @@ import { sql } from "drizzle-orm";
 import {
   bigint,
   bigserial,
+  date,
   doublePrecision,
   boolean,
   index,
@@ -53,6 +54,9 @@ export const sites = pgTable(
     escalateAfterMinutes: integer().notNull().default(15),
     // Local hour (site time zone) of the daily digest of records waiting for verification.
     digestHour: integer().notNull().default(21),
+    // The week's records e-mailed to QA: ISO weekday (1 = Monday) and local hour, for the week before.
+    weeklyRecordsWeekday: integer().notNull().default(1),
+    weeklyRecordsHour: integer().notNull().default(6),
     createdAt: createdAt(),
   },
   (t) => [index().on(t.organisationId)],
@@ -314,7 +318,13 @@ export const batches = pgTable(
     fittedLnS: doublePrecision(),
     createdAt: createdAt(),
   },
-  (t) => [uniqueIndex().on(t.siteId, t.clientId), index().on(t.siteId, t.state), index().on(t.equipmentId, t.endedAt)],
+  (t) => [
+    uniqueIndex().on(t.siteId, t.clientId),
+    index().on(t.siteId, t.state),
+    index().on(t.equipmentId, t.endedAt),
+    // The records view and the exports read a site's batches by start time.
+    index().on(t.siteId, t.startedAt),
+  ],
 );
 
 // Append-only: a trigger refuses UPDATE and DELETE. A correction is a new row naming the one it corrects.
@@ -442,7 +452,7 @@ export const actionConfirmations = pgTable(
   (t) => [uniqueIndex().on(t.correctiveActionId), index().on(t.batchId)],
 );
 
-export const alertKindEnum = pgEnum("alert_kind", ["off_track", "stage_missed", "reading_overdue", "verification_digest"]);
+export const alertKindEnum = pgEnum("alert_kind", ["off_track", "stage_missed", "reading_overdue", "verification_digest", "weekly_records"]);
 export const deliveryStatusEnum = pgEnum("delivery_status", ["queued", "sending", "retrying", "sent", "failed", "skipped"]);
 
 // Who gets each kind of alert at a site, in escalation order (position 1 first).
@@ -510,4 +520,55 @@ export const alertDeliveries = pgTable(
     createdAt: createdAt(),
   },
   (t) => [uniqueIndex().on(t.eventId, t.level, t.userId), index().on(t.status)],
+);
+
+// A read-only link to one site's records over a date range, for an inspector or an auditor.
+// Only the SHA-256 of the token is kept; the token itself is shown once, to the person who made it.
+export const shareLinks = pgTable(
+  "share_links",
+  {
+    id: id(),
+    organisationId: uuid()
+      .notNull()
+      .references(() => organisations.id),
+    siteId: uuid()
+      .notNull()
+      .references(() => sites.id),
+    tokenHash: text().notNull().unique(),
+    // Who it is for, in the maker's words ("County inspection, March").
+    label: text().notNull(),
+    // Site-local calendar dates, both included.
+    fromDate: date({ mode: "string" }).notNull(),
+    toDate: date({ mode: "string" }).notNull(),
+    expiresAt: at().notNull(),
+    createdBy: uuid()
+      .notNull()
+      .references(() => users.id),
+    createdAt: createdAt(),
+    revokedAt: at(),
+    revokedBy: uuid().references(() => users.id),
+  },
+  (t) => [index().on(t.siteId, t.createdAt)],
+);
+
+// Every request made with a share link, allowed or not (append-only: a trigger refuses changes).
+export const shareLinkUses = pgTable(
+  "share_link_uses",
+  {
+    id: id(),
+    linkId: uuid()
+      .notNull()
+      .references(() => shareLinks.id),
+    at: createdAt(),
+    method: text().notNull(),
+    // What was asked for: records, batch, photo, export-xlsx, export-csv, print.
+    target: text().notNull(),
+    path: text().notNull(),
+    // ok, expired, revoked, refused (a write, another site's batch, a date outside the range).
+    outcome: text().notNull(),
+    status: integer().notNull(),
+    address: text(),
+    userAgent: text(),
+  },
+  (t) => [index().on(t.linkId, t.at)],
 );
