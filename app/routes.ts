@@ -21,9 +21,12 @@ export default [
   route("station/batches/:batchId", "routes/station-batch.tsx"),
   route("station/batches/:batchId/readings", "routes/station.batches.readings.ts"),
   route("station/photos", "routes/station.photos.ts"),
+  // Paper: outside the app's frame.
+  route("sites/:siteId/records/print", "routes/site-records-print.tsx"),
   layout("routes/shell.tsx", [
     route("account", "routes/account.tsx"),
     route("sites", "routes/sites.tsx"),
+    route("records", "routes/records.tsx"),
     ...prefix("sites/:siteId", [
       index("routes/site-home.tsx"),
       route("settings", "routes/site-settings.tsx"),
@@ -33,6 +36,7 @@ export default [
       route("station-setup", "routes/station-setup.tsx"),
       route("api-tokens", "routes/site-api-tokens.tsx"),
       route("review", "routes/site-review.tsx"),
+      route("records", "routes/site-records.tsx"),
       route("batches/:batchId", "routes/site-batch.tsx"),
       route("equipment/:equipmentId", "routes/site-equipment.tsx"),
       route("alerts", "routes/site-alerts.tsx"),

@@ -4,6 +4,7 @@ import { useTranslation } from "react-i18next";
 import { Form, Link } from "react-router";
 import { countdown, verdictStyle } from "~/components/batch-card";
 import { Notice } from "~/components/frame";
+import { Pager, SortHeaderCell } from "~/components/table-controls";
 import { ReasonBadge, ReasonShapeIcon } from "~/components/reason-badge";
 import { defaultQueueQuery as defaults, firstDir, pageSizes, reviewReasons, type QueueQuery, type ReasonCode, type SortKey } from "~/lib/review-reasons";
 import { can, requireRole } from "~/server/guards.server";
@@ -211,37 +212,24 @@ export default function SiteReview({ loaderData }: Route.ComponentProps) {
         </div>
       )}
 
-      <Pager query={query} page={page} pageCount={table.getPageCount()} total={total} />
+      <Pager
+        ns="reviewQueue"
+        summary={t("reviewQueue.summary", { count: total, page, pages: Math.max(1, table.getPageCount()) })}
+        page={page}
+        pageCount={table.getPageCount()}
+        sizes={pageSizes}
+        size={query.size}
+        hrefFor={(c) => hrefWith(query, c as Partial<QueueQuery>)}
+      />
     </div>
   );
 }
 
 function SortableHeader({ header, query, label }: { header: Header<typeof features, QueueRow, unknown>; query: QueueQuery; label: React.ReactNode }) {
-  const { t } = useTranslation();
   const id = header.column.id as SortKey;
-  if (!header.column.getCanSort()) {
-    return (
-      <th scope="col" className="px-4 py-3 text-sm font-bold tracking-wide text-ink-soft uppercase">
-        {label}
-      </th>
-    );
-  }
   const sorted = header.column.getIsSorted();
   const nextDir = sorted ? (sorted === "asc" ? "desc" : "asc") : firstDir[id];
-  return (
-    <th scope="col" aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : "none"} className="px-2 py-1">
-      <Link
-        to={hrefWith(query, { sort: id, dir: nextDir, page: 1 })}
-        className={`flex min-h-12 items-center gap-1 rounded-lg px-2 text-sm font-bold tracking-wide uppercase hover:bg-frost ${sorted ? "text-ink" : "text-ink-soft"}`}
-      >
-        {label}
-        <span aria-hidden="true" className="text-base">
-          {sorted === "asc" ? "▲" : sorted === "desc" ? "▼" : "↕"}
-        </span>
-        {sorted ? <span className="sr-only">, {t(sorted === "asc" ? "reviewQueue.sortedAsc" : "reviewQueue.sortedDesc")}</span> : null}
-      </Link>
-    </th>
-  );
+  return <SortHeaderCell ns="reviewQueue" sorted={sorted} to={header.column.getCanSort() ? hrefWith(query, { sort: id, dir: nextDir, page: 1 }) : null} label={label} />;
 }
 
 function Chip({ to, active, children }: { to: string; active: boolean; children: React.ReactNode }) {
@@ -253,41 +241,5 @@ function Chip({ to, active, children }: { to: string; active: boolean; children:
     >
       {children}
     </Link>
-  );
-}
-
-function Pager({ query, page, pageCount, total }: { query: QueueQuery; page: number; pageCount: number; total: number }) {
-  const { t } = useTranslation();
-  return (
-    <nav aria-label={t("reviewQueue.pager")} className="flex flex-wrap items-center gap-3">
-      <p className="text-base font-semibold" data-testid="queue-summary">
-        {t("reviewQueue.summary", { count: total, page, pages: Math.max(1, pageCount) })}
-      </p>
-      <div className="flex gap-2">
-        {page > 1 ? (
-          <Link to={hrefWith(query, { page: page - 1 })} className="btn-quiet" rel="prev">
-            {t("reviewQueue.previous")}
-          </Link>
-        ) : null}
-        {page < pageCount ? (
-          <Link to={hrefWith(query, { page: page + 1 })} className="btn-quiet" rel="next">
-            {t("reviewQueue.next")}
-          </Link>
-        ) : null}
-      </div>
-      <div className="ml-auto flex items-center gap-2">
-        <span className="text-sm font-bold text-ink-soft">{t("reviewQueue.perPage")}</span>
-        {pageSizes.map((size) => (
-          <Link
-            key={size}
-            to={hrefWith(query, { size, page: 1 })}
-            aria-current={size === query.size ? "true" : undefined}
-            className={`inline-flex min-h-12 min-w-12 items-center justify-center rounded-lg border-2 font-bold ${size === query.size ? "border-glacier-dark bg-glacier-dark text-white" : "border-line bg-white"}`}
-          >
-            {size}
-          </Link>
-        ))}
-      </div>
-    </nav>
   );
 }
