@@ -28,6 +28,15 @@ export type RecordsData = {
   options: RecordsOptions;
 };
 
+// Columns a portrait tablet shows inside the batch and outcome cells instead.
+const foldable = new Set(["method", "verified"]);
+
+function Signature({ row }: { row: RecordRow }) {
+  const { t, i18n } = useTranslation();
+  if (row.signedAt !== null) return <span className="text-base">{t("recordsView.signedBy", { name: row.signedBy ?? "", time: recordTime(row.signedAt, row.timeZone, i18n.language) })}</span>;
+  return row.state !== "cooling" ? <span className="font-bold text-ink-soft">{t("recordsView.notSigned")}</span> : null;
+}
+
 const features = tableFeatures({ rowSortingFeature, rowPaginationFeature });
 const column = createColumnHelper<typeof features, RecordRow>();
 
@@ -112,6 +121,10 @@ export function RecordsTable({
             <Link to={batchHref(row.original)} className="font-extrabold text-glacier-dark underline-offset-4 hover:underline" data-testid="record-link">
               {row.original.product}
               <span className="block text-sm font-semibold text-ink-soft">{t("recordsView.lot", { lot: row.original.lotCode })}</span>
+              <span className="block text-sm font-normal text-ink lg:hidden">
+                {t(`library.methods.${row.original.method}`, { defaultValue: row.original.method })}
+                {row.original.equipment ? ` · ${row.original.equipment}` : ""}
+              </span>
             </Link>
           ),
         }),
@@ -141,9 +154,14 @@ export function RecordsTable({
         column.accessor("state", {
           id: "outcome",
           header: () => t("recordsView.columns.outcome"),
-          cell: ({ getValue }) => (
-            <span className={`inline-block rounded-xl border-2 px-2 py-0.5 text-sm font-extrabold ${outcomeStyle[getValue()]}`} data-testid="record-outcome">
-              {t(`recordsView.outcomes.${getValue()}`)}
+          cell: ({ row }) => (
+            <span className="grid justify-items-start gap-1">
+              <span className={`inline-block rounded-xl border-2 px-2 py-0.5 text-sm font-extrabold ${outcomeStyle[row.original.state]}`} data-testid="record-outcome">
+                {t(`recordsView.outcomes.${row.original.state}`)}
+              </span>
+              <span className="text-sm lg:hidden">
+                <Signature row={row.original} />
+              </span>
             </span>
           ),
         }),
@@ -163,12 +181,7 @@ export function RecordsTable({
           id: "verified",
           enableSorting: false,
           header: () => t("recordsView.columns.verified"),
-          cell: ({ row }) =>
-            row.original.signedAt !== null ? (
-              <span className="text-base">{t("recordsView.signedBy", { name: row.original.signedBy ?? "", time: recordTime(row.original.signedAt, row.original.timeZone, lang) })}</span>
-            ) : row.original.state !== "cooling" ? (
-              <span className="font-bold text-ink-soft">{t("recordsView.notSigned")}</span>
-            ) : null,
+          cell: ({ row }) => <Signature row={row.original} />,
         }),
       ]),
     [t, lang, multiSite, batchHref],
@@ -250,7 +263,7 @@ export function RecordsTable({
               {table.getHeaderGroups().map((group) => (
                 <tr key={group.id}>
                   {group.headers.map((header) => (
-                    <SortableHeader key={header.id} header={header} query={query} href={href} label={<table.FlexRender header={header} />} />
+                    <SortableHeader key={header.id} header={header} query={query} href={href} label={<table.FlexRender header={header} />} className={foldable.has(header.column.id) ? "hidden lg:table-cell" : ""} />
                   ))}
                 </tr>
               ))}
@@ -259,7 +272,7 @@ export function RecordsTable({
               {table.getRowModel().rows.map((row) => (
                 <tr key={row.id} className="border-t-2 border-line" data-testid="record-row">
                   {row.getAllCells().map((cell) => (
-                    <td key={cell.id} className="px-3 py-3 align-top">
+                    <td key={cell.id} className={`px-3 py-3 align-top ${cell.column.id === "stages" ? "min-w-56" : ""} ${foldable.has(cell.column.id) ? "hidden lg:table-cell" : ""}`}>
                       <table.FlexRender cell={cell} />
                     </td>
                   ))}
@@ -348,14 +361,16 @@ function SortableHeader({
   query,
   href,
   label,
+  className,
 }: {
   header: Header<typeof features, RecordRow, unknown>;
   query: RecordsQuery;
   href: (c: Partial<RecordsQuery>) => string;
   label: React.ReactNode;
+  className?: string;
 }) {
   const id = header.column.id as RecordSortKey;
   const sorted = header.column.getIsSorted();
   const nextDir = sorted ? (sorted === "asc" ? "desc" : "asc") : recordFirstDir[id];
-  return <SortHeaderCell ns="recordsView" sorted={sorted} to={header.column.getCanSort() ? href({ sort: id, dir: nextDir, page: 1 }) : null} label={label} />;
+  return <SortHeaderCell ns="recordsView" sorted={sorted} to={header.column.getCanSort() ? href({ sort: id, dir: nextDir, page: 1 }) : null} label={label} className={className} />;
 }

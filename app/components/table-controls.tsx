@@ -6,17 +6,17 @@ import { Link } from "react-router";
 /** The strings each table names for its controls, under its own locale section. */
 type Ns = "reviewQueue" | "recordsView";
 
-export function SortHeaderCell({ ns, sorted, to, label }: { ns: Ns; sorted: false | "asc" | "desc" | null; to: string | null; label: React.ReactNode }) {
+export function SortHeaderCell({ ns, sorted, to, label, className = "" }: { ns: Ns; sorted: false | "asc" | "desc" | null; to: string | null; label: React.ReactNode; className?: string }) {
   const { t } = useTranslation();
   if (to === null) {
     return (
-      <th scope="col" className="px-3 py-3 text-sm font-bold tracking-wide text-ink-soft uppercase">
+      <th scope="col" className={`px-3 py-3 text-sm font-bold tracking-wide text-ink-soft uppercase ${className}`}>
         {label}
       </th>
     );
   }
   return (
-    <th scope="col" aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : "none"} className="px-1 py-1">
+    <th scope="col" aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : "none"} className={`px-1 py-1 ${className}`}>
       <Link to={to} className={`flex min-h-12 items-center gap-1 rounded-lg px-2 text-sm font-bold tracking-wide uppercase hover:bg-frost ${sorted ? "text-ink" : "text-ink-soft"}`}>
         {label}
         <span aria-hidden="true" className="text-base">
