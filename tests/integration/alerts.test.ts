@@ -185,6 +185,8 @@ describe("alerts by e-mail", () => {
     await db.update(alertDeliveries).set({ sentAt: new Date(Date.now() - 61_000) }).where(sql`${alertDeliveries.eventId} IN (${evA.id}, ${evB.id})`);
     const escalated = await mailAbout(t.people.admin.email, first.lotCode, /\[Escalated\]/);
     expect(escalated.text).toContain(`first sent to ${"manager " + t.people.manager.email.split(".")[1].split("@")[0]}`);
+    // maildev holds the mail a moment before the worker records "sent".
+    await until("the escalation recorded as sent", async () => (await deliveriesOf(evA.id))[1]?.status === "sent");
     expect((await deliveriesOf(evA.id)).map((d) => [d.level, d.userId, d.status])).toEqual([
       [0, t.people.manager.id, "sent"],
       [1, t.people.admin.id, "sent"],
