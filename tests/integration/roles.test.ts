@@ -73,8 +73,8 @@ describe("role × route matrix", () => {
       return [...menu.matchAll(/<a [^>]*>([^<]+)<\/a>/g)].map((m) => m[1]);
     };
     expect(await nav("cook")).toEqual(["Today", "My account"]);
-    expect(await nav("qa")).toEqual(["Today", "Review", "My account"]);
-    expect(await nav("manager")).toEqual(["Today", "Review", "Alerts", "Team", "Library", "Site settings", "Set up station", "My account"]);
-    expect(await nav("admin")).toEqual(["Today", "Review", "Alerts", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"]);
+    expect(await nav("qa")).toEqual(["Today", "Review", "Share records", "My account"]);
+    expect(await nav("manager")).toEqual(["Today", "Review", "Share records", "Alerts", "Team", "Library", "Site settings", "Set up station", "My account"]);
+    expect(await nav("admin")).toEqual(["Today", "Review", "Share records", "Alerts", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"]);
   });
 });

@@ -2,11 +2,13 @@ import { reviewEn } from "./en-review";
 import { verifyEn } from "./en-verify";
 import { alertsEn } from "./en-alerts";
 import { recordsEn } from "./en-records";
+import { shareEn } from "./en-share";
 export const en = {
   ...reviewEn,
   ...verifyEn,
   ...alertsEn,
   ...recordsEn,
+  ...shareEn,
   app: {
     name: "Chillwright",
     tagline: "Cooling records that catch a failing batch while it can still be saved.",
@@ -25,6 +27,7 @@ export const en = {
     settings: "Site settings",
     station: "Set up station",
     sites: "Sites",
+    sharing: "Share records",
     account: "My account",
     signOut: "Sign out",
     site: "Site",

@@ -2,6 +2,7 @@ import { reviewEs } from "./es-review";
 import { verifyEs } from "./es-verify";
 import { alertsEs } from "./es-alerts";
 import { recordsEs } from "./es-records";
+import { shareEs } from "./es-share";
 import type { Messages } from "./en";
 
 export const es: Messages = {
@@ -9,6 +10,7 @@ export const es: Messages = {
   ...verifyEs,
   ...alertsEs,
   ...recordsEs,
+  ...shareEs,
   app: {
     name: "Chillwright",
     tagline: "Registros de enfriamiento que detectan un lote que va mal cuando todavía se puede salvar.",
@@ -27,6 +29,7 @@ export const es: Messages = {
     settings: "Ajustes del local",
     station: "Configurar estación",
     sites: "Locales",
+    sharing: "Compartir registros",
     account: "Mi cuenta",
     signOut: "Cerrar sesión",
     site: "Local",
