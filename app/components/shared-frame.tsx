@@ -62,6 +62,9 @@ export function SharedFrame({ header, children }: { header: SharedHeader; childr
   );
 }
 
+/** A shared page's answer keeps the headers of a refusal it threw (the 405's Allow). */
+export const sharedPageHeaders = ({ errorHeaders, loaderHeaders }: { errorHeaders?: Headers; loaderHeaders: Headers }) => errorHeaders ?? loaderHeaders;
+
 type Refusal = { reason?: string; expiresAt?: number; timeZone?: string };
 
 /**

@@ -1,7 +1,7 @@
 import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import { ActionsPanel, BatchHeading, BatchNotices, ChartSection, HistoryTable, SignaturesPanel, StagesPanel } from "~/components/batch-view";
-import { SharedErrorBoundary, SharedFrame } from "~/components/shared-frame";
+import { SharedErrorBoundary, SharedFrame, sharedPageHeaders } from "~/components/shared-frame";
 import { useLiveNow } from "~/components/use-live-now";
 import { siteTime } from "~/lib/site-time";
 import { loadBatchView } from "~/server/batch-view.server";
@@ -67,3 +67,4 @@ export default function SharedBatch({ loaderData }: Route.ComponentProps) {
 }
 
 export const ErrorBoundary = SharedErrorBoundary;
+export const headers: Route.HeadersFunction = sharedPageHeaders;

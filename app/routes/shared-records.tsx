@@ -1,5 +1,5 @@
 import { useTranslation } from "react-i18next";
-import { SharedErrorBoundary, SharedFrame } from "~/components/shared-frame";
+import { SharedErrorBoundary, SharedFrame, sharedPageHeaders } from "~/components/shared-frame";
 import { RecordsDownloads } from "~/components/records-downloads";
 import { SharedRecordsList } from "~/components/shared-records-list";
 import { listSharedBatches, openShare, refuseShareWrite, shareHeader, SHARED_LIST_LIMIT } from "~/server/share-links.server";
@@ -12,7 +12,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const share = await openShare(request, params.token, "records", "page");
   const list = await listSharedBatches(share);
   await share.allow();
-  return { header: shareHeader(share), token: params.token, ...list };
+  return { header: shareHeader(share), token: params.token, batches: list.batches, truncatedAt: list.truncated ? SHARED_LIST_LIMIT : null };
 }
 
 // Nothing can be written through a share link.
@@ -20,12 +20,12 @@ export const action = ({ request, params }: Route.ActionArgs) => refuseShareWrit
 
 export default function SharedRecords({ loaderData }: Route.ComponentProps) {
   const { t } = useTranslation();
-  const { header, token, batches, truncated } = loaderData;
+  const { header, token, batches, truncatedAt } = loaderData;
   const base = `/shared/${token}`;
   return (
     <SharedFrame header={header}>
       <div className="grid gap-6">
-        <SharedRecordsList rows={batches} timeZone={header.timeZone} batchHref={(id) => `${base}/batches/${id}`} truncatedAt={truncated ? SHARED_LIST_LIMIT : null} />
+        <SharedRecordsList rows={batches} timeZone={header.timeZone} batchHref={(id) => `${base}/batches/${id}`} truncatedAt={truncatedAt} />
         <section className="card grid gap-4 print:hidden" aria-labelledby="shared-downloads">
           <div>
             <h2 id="shared-downloads" className="text-xl font-extrabold">
@@ -41,3 +41,4 @@ export default function SharedRecords({ loaderData }: Route.ComponentProps) {
 }
 
 export const ErrorBoundary = SharedErrorBoundary;
+export const headers: Route.HeadersFunction = sharedPageHeaders;
