@@ -57,7 +57,6 @@ export function SharedFrame({ header, children }: { header: SharedHeader; childr
         </p>
         {children}
       </main>
-      <footer className="border-t border-line px-6 py-4 text-sm text-ink-soft">{t("app.caution")}</footer>
     </div>
   );
 }

@@ -85,8 +85,12 @@ function CopyLink({ url }: { url: string }) {
       <button
         type="button"
         className="btn-primary min-h-12"
-        onClick={() => {
-          void navigator.clipboard?.writeText(url).then(() => setCopied(true));
+        onClick={(e) => {
+          // Where the clipboard is refused (no permission, no secure context), the link is left selected to copy by hand.
+          const field = e.currentTarget.previousElementSibling as HTMLInputElement | null;
+          const selectIt = () => field?.select();
+          if (!navigator.clipboard) return selectIt();
+          navigator.clipboard.writeText(url).then(() => setCopied(true), selectIt);
         }}
       >
         {copied ? `✓ ${t("share.copied")}` : t("share.copy")}
@@ -104,6 +108,8 @@ export default function SiteSharing({ loaderData, actionData }: Route.ComponentP
   const values: Record<string, string> = actionData?.values ?? {};
   const busy = useNavigation().state !== "idle";
   const when = (ms: number) => siteTime(ms, timeZone, i18n.language);
+  // The log reads to the second: several uses often fall in one minute.
+  const logTime = (ms: number) => new Intl.DateTimeFormat(i18n.language, { timeZone, day: "numeric", month: "short", hour: "2-digit", minute: "2-digit", second: "2-digit", timeZoneName: "short" }).format(ms);
   const err = (name: string) => (errors[name] ? t(errors[name]) : undefined);
   const [mode, setMode] = useState(values.expiry === "at" ? "at" : "days");
   return (
@@ -123,7 +129,8 @@ export default function SiteSharing({ loaderData, actionData }: Route.ComponentP
       {actionData?.revoked ? <Notice tone="ok">{t("share.revokedNotice")}</Notice> : null}
       {errors.form ? <Notice tone="error">{t(errors.form)}</Notice> : null}
 
-      <Form method="post" className="card max-w-3xl" noValidate>
+      {/* A new key after each link made: the form starts empty again. */}
+      <Form key={actionData?.created?.url ?? "new"} method="post" className="card max-w-3xl" noValidate>
         <h2 className="mb-4 text-lg font-extrabold">{t("share.newLink")}</h2>
         <input type="hidden" name="intent" value="create" />
         <Field label={t("share.label")} name="label" required maxLength={120} placeholder={t("share.labelPlaceholder")} defaultValue={values.label} error={err("label")} />
@@ -233,7 +240,7 @@ export default function SiteSharing({ loaderData, actionData }: Route.ComponentP
                       <tbody>
                         {l.log.map((u) => (
                           <tr key={u.id} className="border-b border-line last:border-0" data-testid="share-use">
-                            <td className="py-2 pr-3 whitespace-nowrap">{when(u.at)}</td>
+                            <td className="py-2 pr-3 whitespace-nowrap">{logTime(u.at)}</td>
                             <td className="py-2 pr-3">
                               {t(`share.targets.${u.target}`, { defaultValue: u.target })}
                               <span className="block break-all text-ink-soft">

@@ -63,7 +63,7 @@ export const shareEn = {
     view: {
       readOnly: "Read-only",
       sharedFor: "Shared for: {{label}}",
-      period: "Records of {{from}} to {{to}} ({{zone}})",
+      period: "Records from {{from}} to {{to}} ({{zone}})",
       expires: "This link works until {{time}}",
       cautionTitle: "Caution",
       recordsTitle: "Cooling records",
