@@ -244,20 +244,24 @@ describe("share links", () => {
       await visitor.get(`/shared/${t2}/batches/${k.old.id}`);
       await visitor.request(`/shared/${t2}/batches/${k.batch.id}`, { method: "DELETE" });
       await visitor.get(`/shared/${t2}/export.csv?sheet=batches`);
+      const head = await visitor.request(`/shared/${t2}`, { method: "HEAD" });
+      expect(head.status).toBe(200);
+      expect(head.headers.get("cache-control")).toBe("no-store");
       const uses = await usesOf(t2);
       expect(uses.map((u) => [u.method, u.target, u.outcome, u.status])).toEqual([
         ["GET", "records", "ok", 200],
         ["GET", "batch", "refused", 404],
         ["DELETE", "batch", "refused", 405],
         ["GET", "export-csv", "ok", 200],
+        ["HEAD", "records", "ok", 200],
       ]);
       expect(uses[0].userAgent).toBe("InspectorTablet/1.0");
       expect(uses.every((u) => u.address === visitor.address)).toBe(true);
-      expect(uses.map((u) => u.path)).toEqual(["/shared/…", `/shared/…/batches/${k.old.id}`, `/shared/…/batches/${k.batch.id}`, "/shared/…/export.csv?sheet=batches"]);
+      expect(uses.map((u) => u.path)).toEqual(["/shared/…", `/shared/…/batches/${k.old.id}`, `/shared/…/batches/${k.batch.id}`, "/shared/…/export.csv?sheet=batches", "/shared/…"]);
       expect(JSON.stringify(uses)).not.toContain(t2);
       // QA sees them on the sharing screen.
       const html = await (await qa.get(`/sites/${k.t.site.id}/sharing`)).text();
-      expect(html).toContain("Uses of “Log check” (4)");
+      expect(html).toContain("Uses of “Log check” (5)");
       expect(html).toContain(visitor.address);
       expect(html).toContain("refused");
     });
