@@ -16,25 +16,30 @@ import "./app.css";
 import { ErrorPage } from "./components/error-page";
 import { getI18n, LANGUAGE_COOKIE, resolveLanguage, type Language } from "./lib/i18n";
 import { getUser } from "./server/guards.server";
-import { applySecurityHeaders, isAllowedOrigin } from "./server/security.server";
+import { applySecurityHeaders, applyShareHeaders, isAllowedOrigin, isSharedPath } from "./server/security.server";
 import { readCookie } from "./server/station.server";
 
 // Every request passes here: mutations from another origin are refused before any action runs,
 // and every response carries the security headers.
+// Answers under /shared/ (read-only links) also carry no-store, no-referrer and noindex.
 const securityMiddleware: MiddlewareFunction<Response> = async ({ request }, next) => {
+  const apply = (headers: Headers) => {
+    applySecurityHeaders(headers);
+    if (isSharedPath(request)) applyShareHeaders(headers);
+  };
   if (!isAllowedOrigin(request)) {
     const res = new Response("Cross-origin request refused", { status: 403, headers: { "Content-Type": "text/plain" } });
-    applySecurityHeaders(res.headers);
+    apply(res.headers);
     return res;
   }
   const res = await next();
   try {
-    applySecurityHeaders(res.headers);
+    apply(res.headers);
     return res;
   } catch {
     // Some responses (e.g. Response.redirect) have immutable headers: copy them.
     const copy = new Response(res.body, res);
-    applySecurityHeaders(copy.headers);
+    apply(copy.headers);
     return copy;
   }
 };

@@ -23,6 +23,12 @@ export default [
   route("station/photos", "routes/station.photos.ts"),
   // Paper: outside the app's frame.
   route("sites/:siteId/records/print", "routes/site-records-print.tsx"),
+  // Read-only share links: outside the signed-in shell; the token alone decides.
+  route("shared/:token", "routes/shared-records.tsx"),
+  route("shared/:token/batches/:batchId", "routes/shared-batch.tsx"),
+  route("shared/:token/photos/:id/:size?", "routes/shared-photo.ts"),
+  route("shared/:token/export.xlsx", "routes/shared-export-xlsx.ts"),
+  route("shared/:token/export.csv", "routes/shared-export-csv.ts"),
   layout("routes/shell.tsx", [
     route("account", "routes/account.tsx"),
     route("sites", "routes/sites.tsx"),
@@ -42,6 +48,7 @@ export default [
       route("alerts", "routes/site-alerts.tsx"),
       route("export.xlsx", "routes/site-export-xlsx.ts"),
       route("export.csv", "routes/site-export-csv.ts"),
+      route("sharing", "routes/site-sharing.tsx"),
     ]),
   ]),
 ] satisfies RouteConfig;

@@ -158,20 +158,25 @@ export function ChartSection({ view, now }: { view: Pick<BatchView, "chart" | "b
   );
 }
 
+const signedInPhoto = (id: string, size?: "thumb") => `/photos/${id}${size ? `/${size}` : ""}`;
+
 /**
  * Every entry with its time, value, who made it and its notes. `note` adds a mark of the page's own
- * (e.g. "after signing"); `rowAction` a button at the end of the row.
+ * (e.g. "after signing"); `rowAction` a button at the end of the row; `photoHref` where a photo is
+ * served (a share link has its own route).
  */
 export function HistoryTable({
   readings,
   timeZone,
   note,
   rowAction,
+  photoHref = signedInPhoto,
 }: {
   readings: Reading[];
   timeZone: string;
   note?: (r: Reading) => React.ReactNode;
   rowAction?: (r: Reading) => React.ReactNode;
+  photoHref?: (id: string, size?: "thumb") => string;
 }) {
   const { t, i18n } = useTranslation();
   return (
@@ -203,8 +208,8 @@ export function HistoryTable({
                 {r.kind === "reheat" ? <span className="mr-2">{t("batch.reheat")}</span> : null}
                 {r.corrects ? t("batch.correction", { reason: r.reason }) : null}
                 {r.photoId ? (
-                  <a href={`/photos/${r.photoId}`} target="_blank" rel="noreferrer">
-                    <img src={`/photos/${r.photoId}/thumb`} alt={t("outbox.photo")} className="inline-block h-14 rounded-lg" />
+                  <a href={photoHref(r.photoId)} target="_blank" rel="noreferrer">
+                    <img src={photoHref(r.photoId, "thumb")} alt={t("outbox.photo")} className="inline-block h-14 rounded-lg" />
                   </a>
                 ) : null}
               </td>
@@ -213,6 +218,80 @@ export function HistoryTable({
           ))}
         </tbody>
       </table>
+    </section>
+  );
+}
+
+/** A corrective action in words: the move it made, or the discard and its reason. */
+export function useDescribeAction() {
+  const { t } = useTranslation();
+  const method = (id: unknown) => t(`library.methods.${String(id)}`, { defaultValue: String(id) });
+  return (a: { kind: string; detail: unknown }) => {
+    const d = (a.detail ?? {}) as { method?: string; lid?: boolean; from?: { method?: string }; reason?: string; quantityKg?: number };
+    if (a.kind === "change_method" && d.method === d.from?.method) return t("verify.action.lidOff");
+    if (a.kind === "change_method") return t("verify.action.change_method", { from: method(d.from?.method), to: method(d.method) });
+    if (a.kind === "discard") return d.quantityKg ? t("verify.action.discardQuantity", { quantity: d.quantityKg, reason: d.reason }) : t("verify.action.discard", { reason: d.reason });
+    return a.kind;
+  };
+}
+
+type ActionItem = { id: string; kind: string; detail: unknown; takenBy: string; takenAt: number; confirmation: { by: string; at: number; note: string | null } | null };
+
+/** The batch's corrective actions and their confirmations; `mark` and `extra` add the page's own. */
+export function ActionsPanel<A extends ActionItem>({ actions, when, mark, extra }: { actions: A[]; when: (ms: number) => string; mark?: (a: A) => React.ReactNode; extra?: (a: A) => React.ReactNode }) {
+  const { t } = useTranslation();
+  const describe = useDescribeAction();
+  return (
+    <section className="card mt-6 print:break-inside-avoid" aria-labelledby="actions">
+      <h2 id="actions" className="mb-3 text-lg font-extrabold">
+        {t("verify.actions")}
+      </h2>
+      {actions.length === 0 ? <p className="text-ink-soft">{t("verify.noActions")}</p> : null}
+      <ul className="grid gap-3">
+        {actions.map((a) => (
+          <li key={a.id} className="rounded-xl bg-frost p-4" data-testid="corrective-action">
+            <p className="font-bold">
+              {describe(a)}
+              {mark?.(a)}
+            </p>
+            <p className="text-sm text-ink-soft">{t("verify.takenBy", { name: a.takenBy, time: when(a.takenAt) })}</p>
+            {a.confirmation ? (
+              <p className="mt-2 text-base">
+                <span className="font-bold text-pine">✓ {t("verify.confirmedBy", { name: a.confirmation.by, time: when(a.confirmation.at) })}</span>
+                {a.confirmation.note ? <span className="block">{a.confirmation.note}</span> : null}
+              </p>
+            ) : (
+              <p className="mt-2 font-bold text-amber">{t("verify.awaitingConfirmation")}</p>
+            )}
+            {extra?.(a)}
+          </li>
+        ))}
+      </ul>
+    </section>
+  );
+}
+
+type SignatureItem = { id: string; signedBy: string; signedAt: number; statement: string; comment: string | null; readingsCovered: number; actionsCovered: number };
+
+/** Every signature of the record, with the words signed and what it covered. */
+export function SignaturesPanel({ signatures, when }: { signatures: SignatureItem[]; when: (ms: number) => string }) {
+  const { t } = useTranslation();
+  return (
+    <section className="card mt-6 print:break-inside-avoid" aria-labelledby="signatures">
+      <h2 id="signatures" className="mb-3 text-lg font-extrabold">
+        {t("verify.signatures")}
+      </h2>
+      {signatures.length === 0 ? <p className="text-ink-soft">{t("verify.noSignatures")}</p> : null}
+      <ol className="grid gap-3">
+        {signatures.map((s) => (
+          <li key={s.id} className="rounded-xl bg-frost p-4" data-testid="signature">
+            <p className="font-bold">{t("verify.signedBy", { name: s.signedBy, time: when(s.signedAt) })}</p>
+            <p className="mt-1 text-base">“{s.statement}”</p>
+            {s.comment ? <p className="mt-1 text-base">{t("verify.commentShown", { comment: s.comment })}</p> : null}
+            <p className="mt-1 text-sm text-ink-soft">{t("verify.covered", { readings: s.readingsCovered, actions: s.actionsCovered })}</p>
+          </li>
+        ))}
+      </ol>
     </section>
   );
 }

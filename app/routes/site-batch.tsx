@@ -1,6 +1,6 @@
 import { useTranslation } from "react-i18next";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
-import { BatchHeading, BatchNotices, ChartSection, HistoryTable, StagesPanel } from "~/components/batch-view";
+import { ActionsPanel, BatchHeading, BatchNotices, ChartSection, HistoryTable, SignaturesPanel, StagesPanel } from "~/components/batch-view";
 import { CheckboxField } from "~/components/controls";
 import { Notice } from "~/components/frame";
 import { useLiveNow } from "~/components/use-live-now";
@@ -66,14 +66,6 @@ export default function SiteBatch({ loaderData, actionData }: Route.ComponentPro
   const errors: Record<string, string> = actionData?.errors ?? {};
   const when = (ms: number) => new Intl.DateTimeFormat(i18n.language, { timeZone, dateStyle: "medium", timeStyle: "short" }).format(ms);
   const afterSigning = (ms: number) => review.firstSignedAt !== null && ms > review.firstSignedAt;
-  const method = (id: unknown) => t(`library.methods.${String(id)}`, { defaultValue: String(id) });
-  const describe = (a: (typeof review.actions)[number]) => {
-    const d = a.detail as { method?: string; lid?: boolean; from?: { method?: string }; reason?: string; quantityKg?: number };
-    if (a.kind === "change_method" && d.method === d.from?.method) return t("verify.action.lidOff");
-    if (a.kind === "change_method") return t("verify.action.change_method", { from: method(d.from?.method), to: method(d.method) });
-    if (a.kind === "discard") return d.quantityKg ? t("verify.action.discardQuantity", { quantity: d.quantityKg, reason: d.reason }) : t("verify.action.discard", { reason: d.reason });
-    return a.kind;
-  };
   const errorFor = (intent: string, actionId = "") => (actionData && actionData.intent === intent && (intent === "sign" || actionData.actionId === actionId) ? errors : {});
   const signErrors = errorFor("sign");
   const latest = review.signatures.at(-1);
@@ -192,73 +184,41 @@ export default function SiteBatch({ loaderData, actionData }: Route.ComponentPro
         </section>
       </div>
 
-      <section className="card mt-6" aria-labelledby="actions">
-        <h2 id="actions" className="mb-3 text-lg font-extrabold">
-          {t("verify.actions")}
-        </h2>
-        {review.actions.length === 0 ? <p className="text-ink-soft">{t("verify.noActions")}</p> : null}
-        <ul className="grid gap-3">
-          {review.actions.map((a) => {
-            const e = errorFor("confirm", a.id);
-            return (
-              <li key={a.id} className="rounded-xl bg-frost p-4" data-testid="corrective-action">
-                <p className="font-bold">
-                  {describe(a)}
-                  {afterSigning(a.takenAt) ? <span className="ml-2 rounded bg-amber-light px-1 text-sm text-amber">{t("verify.afterSigning")}</span> : null}
-                </p>
-                <p className="text-sm text-ink-soft">{t("verify.takenBy", { name: a.takenBy, time: when(a.takenAt) })}</p>
-                {a.confirmation ? (
-                  <p className="mt-2 text-base">
-                    <span className="font-bold text-pine">✓ {t("verify.confirmedBy", { name: a.confirmation.by, time: when(a.confirmation.at) })}</span>
-                    {a.confirmation.note ? <span className="block">{a.confirmation.note}</span> : null}
-                  </p>
-                ) : (
-                  <p className="mt-2 font-bold text-amber">{t("verify.awaitingConfirmation")}</p>
-                )}
-                {e.form ? <Notice tone="error">{t(e.form)}</Notice> : null}
-                {a.ownAction ? <p className="mt-2 text-sm">{t("verify.ownAction")}</p> : null}
-                {a.canConfirm ? (
-                  <Form method="post" className="mt-3 grid gap-3 sm:grid-cols-[minmax(0,1fr)_auto] sm:items-end">
-                    <input type="hidden" name="intent" value="confirm" />
-                    <input type="hidden" name="actionId" value={a.id} />
-                    <div>
-                      <label htmlFor={`note-${a.id}`} className="label">
-                        {t("verify.confirmNote")}
-                      </label>
-                      <input id={`note-${a.id}`} name="note" maxLength={1000} className="field" aria-invalid={e.note ? true : undefined} />
-                      {e.note ? (
-                        <p className="field-error" role="alert">
-                          {t(e.note)}
-                        </p>
-                      ) : null}
-                    </div>
-                    <button type="submit" className="btn-primary min-h-14" disabled={busy}>
-                      {t("verify.confirm")}
-                    </button>
-                  </Form>
-                ) : null}
-              </li>
-            );
-          })}
-        </ul>
-      </section>
-
-      <section className="card mt-6" aria-labelledby="signatures">
-        <h2 id="signatures" className="mb-3 text-lg font-extrabold">
-          {t("verify.signatures")}
-        </h2>
-        {review.signatures.length === 0 ? <p className="text-ink-soft">{t("verify.noSignatures")}</p> : null}
-        <ol className="grid gap-3">
-          {review.signatures.map((s) => (
-            <li key={s.id} className="rounded-xl bg-frost p-4" data-testid="signature">
-              <p className="font-bold">{t("verify.signedBy", { name: s.signedBy, time: when(s.signedAt) })}</p>
-              <p className="mt-1 text-base">“{s.statement}”</p>
-              {s.comment ? <p className="mt-1 text-base">{t("verify.commentShown", { comment: s.comment })}</p> : null}
-              <p className="mt-1 text-sm text-ink-soft">{t("verify.covered", { readings: s.readingsCovered, actions: s.actionsCovered })}</p>
-            </li>
-          ))}
-        </ol>
-      </section>
+      <ActionsPanel
+        actions={review.actions}
+        when={when}
+        mark={(a) => (afterSigning(a.takenAt) ? <span className="ml-2 rounded bg-amber-light px-1 text-sm text-amber">{t("verify.afterSigning")}</span> : null)}
+        extra={(a) => {
+          const e = errorFor("confirm", a.id);
+          return (
+            <>
+              {e.form ? <Notice tone="error">{t(e.form)}</Notice> : null}
+              {a.ownAction ? <p className="mt-2 text-sm">{t("verify.ownAction")}</p> : null}
+              {a.canConfirm ? (
+                <Form method="post" className="mt-3 grid gap-3 sm:grid-cols-[minmax(0,1fr)_auto] sm:items-end">
+                  <input type="hidden" name="intent" value="confirm" />
+                  <input type="hidden" name="actionId" value={a.id} />
+                  <div>
+                    <label htmlFor={`note-${a.id}`} className="label">
+                      {t("verify.confirmNote")}
+                    </label>
+                    <input id={`note-${a.id}`} name="note" maxLength={1000} className="field" aria-invalid={e.note ? true : undefined} />
+                    {e.note ? (
+                      <p className="field-error" role="alert">
+                        {t(e.note)}
+                      </p>
+                    ) : null}
+                  </div>
+                  <button type="submit" className="btn-primary min-h-14" disabled={busy}>
+                    {t("verify.confirm")}
+                  </button>
+                </Form>
+              ) : null}
+            </>
+          );
+        }}
+      />
+      <SignaturesPanel signatures={review.signatures} when={when} />
 
       <ChartSection view={loaderData} now={now} />
       <HistoryTable

@@ -1,6 +1,7 @@
 import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import { verdictStyle } from "~/components/batch-card";
+import { RecordsDownloads } from "~/components/records-downloads";
 import { RuleSetCard } from "~/components/rule-set-card";
 import { slowerPercent } from "~/lib/equipment-learning";
 import { lastWeek } from "~/lib/records-export";
@@ -149,64 +150,22 @@ function Glance({ glance, siteId }: { glance: GlanceData; siteId: string }) {
   );
 }
 
-// Plain links and a plain GET form: the browser downloads the file itself, with or without JavaScript.
 function RecordsExport({ siteId, week, timeZone }: { siteId: string; week: { from: string; to: string }; timeZone: string }) {
   const { t } = useTranslation();
-  const base = `/sites/${siteId}`;
-  const range = `from=${week.from}&to=${week.to}`;
-  const files = [
-    { href: `${base}/export.xlsx?${range}`, label: t("recordsExport.workbook") },
-    { href: `${base}/export.csv?sheet=batches&${range}`, label: t("recordsExport.csvBatches") },
-    { href: `${base}/export.csv?sheet=readings&${range}`, label: t("recordsExport.csvReadings") },
-    { href: `${base}/export.csv?sheet=actions&${range}`, label: t("recordsExport.csvActions") },
-  ];
   return (
     <section className="card grid gap-4" aria-labelledby="records-export">
-      <div>
-        <h2 id="records-export" className="text-xl font-extrabold">
-          {t("recordsExport.title")}
-        </h2>
-        <p className="mt-1 text-base text-ink-soft">{t("recordsExport.intro", { zone: timeZone })}</p>
-      </div>
-      <div>
-        <h3 className="text-sm font-bold tracking-wide text-ink-soft uppercase">{t("recordsExport.lastWeek", { from: week.from, to: week.to })}</h3>
-        <ul className="mt-2 flex flex-wrap gap-2">
-          {files.map((f) => (
-            <li key={f.href}>
-              <a href={f.href} download className="btn-quiet">
-                {f.label}
-              </a>
-            </li>
-          ))}
-        </ul>
-      </div>
-      <form method="get" action={`${base}/export.xlsx`} className="grid gap-3">
-        <h3 className="text-sm font-bold tracking-wide text-ink-soft uppercase">{t("recordsExport.otherPeriod")}</h3>
-        <div className="flex flex-wrap items-end gap-3">
-          <div>
-            <label htmlFor="export-from" className="label">
-              {t("recordsExport.from")}
-            </label>
-            <input id="export-from" name="from" type="date" required className="field" defaultValue={week.from} />
-          </div>
-          <div>
-            <label htmlFor="export-to" className="label">
-              {t("recordsExport.to")}
-            </label>
-            <input id="export-to" name="to" type="date" required className="field" defaultValue={week.to} />
-          </div>
+      <div className="flex flex-wrap items-start justify-between gap-3">
+        <div>
+          <h2 id="records-export" className="text-xl font-extrabold">
+            {t("recordsExport.title")}
+          </h2>
+          <p className="mt-1 text-base text-ink-soft">{t("recordsExport.intro", { zone: timeZone })}</p>
         </div>
-        <div className="flex flex-wrap gap-2">
-          <button type="submit" className="btn-primary">
-            {t("recordsExport.workbook")}
-          </button>
-          {(["batches", "readings", "actions"] as const).map((sheet) => (
-            <button key={sheet} type="submit" formAction={`${base}/export.csv`} name="sheet" value={sheet} className="btn-quiet">
-              {t(`recordsExport.csv${sheet[0].toUpperCase()}${sheet.slice(1)}`)}
-            </button>
-          ))}
-        </div>
-      </form>
+        <Link to={`/sites/${siteId}/sharing`} className="btn-quiet">
+          {t("share.fromExportCard")}
+        </Link>
+      </div>
+      <RecordsDownloads base={`/sites/${siteId}`} range={week} rangeTitle={t("recordsExport.lastWeek", { from: week.from, to: week.to })} otherTitle={t("recordsExport.otherPeriod")} />
     </section>
   );
 }

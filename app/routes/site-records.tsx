@@ -42,6 +42,9 @@ export default function SiteRecords({ loaderData }: Route.ComponentProps) {
               {t("recordsView.titleAll")}
             </Link>
           ) : null}
+          <Link to={`/sites/${site.id}/sharing`} className="btn-quiet">
+            {t("nav.sharing")}
+          </Link>
           <Link to={`/sites/${site.id}/records/print?${range}`} className="btn-quiet" data-testid="records-print-link">
             {t("recordsView.print")}
           </Link>

@@ -10,13 +10,14 @@ import { getI18n, type Language } from "~/lib/i18n";
 import { csvLine, exportFileName, ExportRangeSchema, lastWeek, neutraliseFormula, rangeInstants, SheetSchema, wallClock, type ExportSheet } from "~/lib/records-export";
 import { getRuleSet, ruleSets } from "~/lib/rule-sets";
 import { fromCelsius, toCelsius } from "~/lib/temperature";
-import { recordAudit } from "./audit.server";
+import { recordAudit, type Actor } from "./audit.server";
 import { effectiveReadings, evaluateRows, type BatchRow } from "./batches.server";
 import { db } from "./db.server";
 import { env } from "./env.server";
 
 type Site = typeof sites.$inferSelect;
-type Exporter = { id: string; name: string; email: string; language: Language };
+// A signed-in person, or a share link (its own actor, and the cover names the link instead of a person).
+export type Exporter = { id: string; name: string; email: string; language: Language; actor?: Actor; label?: string };
 export type ExportRange = { from: string; to: string };
 type Ctx = { site: Site; range: ExportRange; fromMs: number; toMs: number; now: number; lang: Language };
 
@@ -408,7 +409,7 @@ async function context(site: Site, user: Exporter, range: ExportRange, format: s
   const now = Date.now();
   const { fromMs, toMs } = rangeInstants(range, site.timeZone);
   await recordAudit(db, {
-    actor: { kind: "user", userId: user.id },
+    actor: user.actor ?? { kind: "user", userId: user.id },
     organisationId: site.organisationId,
     siteId: site.id,
     action: "records.exported",
@@ -445,7 +446,7 @@ export async function exportWorkbook(site: Site, user: Exporter, range: ExportRa
     [s("timeZone"), zone],
     [s("ruleSet"), ruleSet ? s("ruleSetValue", { name: ruleSet.name, code: ruleSet.code, version: ruleSet.version }) : site.ruleSetCode],
     [s("citation"), ruleSet ? `${ruleSet.citation}. ${ruleSet.source}` : ""],
-    [s("exportedBy"), `${user.name} <${user.email}>`],
+    [s("exportedBy"), user.label ?? `${user.name} <${user.email}>`],
     [s("exportedAt"), wallClock(ctx.now, zone)],
     [s("counts"), s("countsValue", totals)],
     [s("retention"), s("retentionValue", { days: site.retentionDays })],

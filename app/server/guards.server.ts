@@ -16,13 +16,15 @@ export type SessionUser = {
 };
 
 // Who can do what, in one place. Admins hold every right at their sites.
-export const can: Record<"manageTeam" | "manageSite" | "setUpStation" | "manageOrganisation" | "viewSite" | "review" | "verify" | "manageAlerts" | "exportRecords", readonly Role[]> = {
+export const can: Record<"manageTeam" | "manageSite" | "setUpStation" | "manageOrganisation" | "viewSite" | "review" | "verify" | "manageAlerts" | "exportRecords" | "shareRecords", readonly Role[]> = {
   manageTeam: ["manager", "admin"],
   // The review queue and batch records: QA reads them, managers act on them.
   review: ["manager", "qa", "admin"],
   verify: ["manager", "admin"],
   // The spreadsheet of a period's records: QA's job, and the managers'.
   exportRecords: ["manager", "qa", "admin"],
+  // Read-only links for inspectors and auditors: whoever may export the records may share them.
+  shareRecords: ["manager", "qa", "admin"],
   manageAlerts: ["manager", "admin"],
   manageSite: ["manager", "admin"],
   setUpStation: ["manager", "admin"],

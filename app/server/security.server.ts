@@ -43,3 +43,11 @@ export function applySecurityHeaders(headers: Headers) {
   headers.set("Permissions-Policy", "camera=(self), microphone=(), geolocation=()");
   if (env.APP_URL.startsWith("https:")) headers.set("Strict-Transport-Security", "max-age=31536000");
 }
+
+/** Shared (read-only link) pages: the token is in the address, so nothing may keep, pass on or index it. */
+export const isSharedPath = (request: Request) => new URL(request.url).pathname.startsWith("/shared/");
+export function applyShareHeaders(headers: Headers) {
+  headers.set("Cache-Control", "no-store");
+  headers.set("Referrer-Policy", "no-referrer");
+  headers.set("X-Robots-Tag", "noindex, nofollow");
+}

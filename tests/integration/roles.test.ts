@@ -20,6 +20,7 @@ const pages: [string, Expect][] = [
   ["/sites/:site/equipment/:walkIn", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites/:site/export.xlsx", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites/:site/export.csv?sheet=readings", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
+  ["/sites/:site/sharing", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
   ["/account", { anonymous: 302, cook: 200, manager: 200, qa: 200, admin: 200 }],
 ];
@@ -35,6 +36,8 @@ const mutations: [string, (site: string) => Record<string, string>, Expect][] = 
   // Saved library changes redirect back to the library (post/redirect/get).
   ["/sites/:site/library", () => ({ intent: "addEquipment", name: `Reach-in ${Math.random().toString(36).slice(2, 8)}`, method: "reach-in" }), { anonymous: 302, cook: 403, manager: 302, qa: 403, admin: 302 }],
   ["/sites/:site/api-tokens", () => ({ intent: "create", name: "gateway" }), { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
+  // The new link is shown once in the answer (no redirect).
+  ["/sites/:site/sharing", () => ({ intent: "create", label: "Audit", fromDate: "2025-01-01", toDate: "2025-01-07", expiry: "days", expiresInDays: "7" }), { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites", () => ({ name: "Annex", temperatureUnit: "F", timeZone: "America/Chicago", ruleSetCode: "fda-3-501.14-a" }), { anonymous: 302, cook: 403, manager: 403, qa: 403, admin: 302 }],
 ];
 
@@ -67,6 +70,14 @@ describe("role × route matrix", () => {
         expect(res.status).toBe(expected[who]);
       });
     }
+  }
+
+  // Shared pages are outside the signed-in shell: a session neither opens them nor sends anyone to sign in.
+  for (const path of ["/shared/:token", "/shared/:token/batches/:walkIn", "/shared/:token/photos/:walkIn", "/shared/:token/export.xlsx", "/shared/:token/export.csv"]) {
+    it(`GET ${path} with a token that names no link answers every role 404`, async () => {
+      const target = path.replace(":token", "x".repeat(43)).replace(":walkIn", tenant.walkIn.id);
+      for (const who of ["anonymous", "cook", "manager", "qa", "admin"] as const) expect((await clients[who].get(target)).status, who).toBe(404);
+    });
   }
 
   it("each role's navigation lists only what that role may open", async () => {

@@ -3,12 +3,14 @@ import { verifyEn } from "./en-verify";
 import { alertsEn } from "./en-alerts";
 import { recordsEn } from "./en-records";
 import { recordsViewEn } from "./en-records-view";
+import { shareEn } from "./en-share";
 export const en = {
   ...reviewEn,
   ...verifyEn,
   ...alertsEn,
   ...recordsEn,
   ...recordsViewEn,
+  ...shareEn,
   app: {
     name: "Chillwright",
     tagline: "Cooling records that catch a failing batch while it can still be saved.",
@@ -28,6 +30,7 @@ export const en = {
     settings: "Site settings",
     station: "Set up station",
     sites: "Sites",
+    sharing: "Share records",
     account: "My account",
     signOut: "Sign out",
     site: "Site",

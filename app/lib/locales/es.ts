@@ -3,6 +3,7 @@ import { verifyEs } from "./es-verify";
 import { alertsEs } from "./es-alerts";
 import { recordsEs } from "./es-records";
 import { recordsViewEs } from "./es-records-view";
+import { shareEs } from "./es-share";
 import type { Messages } from "./en";
 
 export const es: Messages = {
@@ -11,6 +12,7 @@ export const es: Messages = {
   ...alertsEs,
   ...recordsEs,
   ...recordsViewEs,
+  ...shareEs,
   app: {
     name: "Chillwright",
     tagline: "Registros de enfriamiento que detectan un lote que va mal cuando todavía se puede salvar.",
@@ -30,6 +32,7 @@ export const es: Messages = {
     settings: "Ajustes del local",
     station: "Configurar estación",
     sites: "Locales",
+    sharing: "Compartir registros",
     account: "Mi cuenta",
     signOut: "Cerrar sesión",
     site: "Local",
