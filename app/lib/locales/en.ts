@@ -2,11 +2,13 @@ import { reviewEn } from "./en-review";
 import { verifyEn } from "./en-verify";
 import { alertsEn } from "./en-alerts";
 import { recordsEn } from "./en-records";
+import { curvesEn } from "./en-curves";
 export const en = {
   ...reviewEn,
   ...verifyEn,
   ...alertsEn,
   ...recordsEn,
+  ...curvesEn,
   app: {
     name: "Chillwright",
     tagline: "Cooling records that catch a failing batch while it can still be saved.",
