@@ -3,12 +3,14 @@ import { verifyEn } from "./en-verify";
 import { alertsEn } from "./en-alerts";
 import { recordsEn } from "./en-records";
 import { curvesEn } from "./en-curves";
+import { weeklyEn } from "./en-weekly";
 export const en = {
   ...reviewEn,
   ...verifyEn,
   ...alertsEn,
   ...recordsEn,
   ...curvesEn,
+  ...weeklyEn,
   app: {
     name: "Chillwright",
     tagline: "Cooling records that catch a failing batch while it can still be saved.",

@@ -3,6 +3,7 @@ import { verifyEs } from "./es-verify";
 import { alertsEs } from "./es-alerts";
 import { recordsEs } from "./es-records";
 import { curvesEs } from "./es-curves";
+import { weeklyEs } from "./es-weekly";
 import type { Messages } from "./en";
 
 export const es: Messages = {
@@ -11,6 +12,7 @@ export const es: Messages = {
   ...alertsEs,
   ...recordsEs,
   ...curvesEs,
+  ...weeklyEs,
   app: {
     name: "Chillwright",
     tagline: "Registros de enfriamiento que detectan un lote que va mal cuando todavía se puede salvar.",
