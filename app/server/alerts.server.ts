@@ -1,4 +1,4 @@
-import { and, asc, eq, inArray, isNull, lt, sql } from "drizzle-orm";
+import { and, asc, eq, gte, inArray, isNull, lt, sql } from "drizzle-orm";
 import { alertDeliveries, alertEvents, alertRecipients, batches, memberships, products, sites, users } from "~db/schema";
 import type { Assessment } from "~/lib/engine/assess";
 import { recordAudit } from "./audit.server";
@@ -6,7 +6,7 @@ import { listActive, refreshSnapshot } from "./batches.server";
 import { db, pool } from "./db.server";
 import { env } from "./env.server";
 import { awaitingVerification } from "./verification.server";
-import { lastWeek } from "~/lib/records-export";
+import { lastWeek, rangeInstants } from "~/lib/records-export";
 
 export type AlertKind = (typeof alertEvents.$inferSelect)["kind"];
 export const alertKinds: AlertKind[] = ["off_track", "stage_missed", "reading_overdue", "verification_digest", "weekly_records"];
@@ -269,7 +269,8 @@ export function isoWeekKey(monday: string) {
 /**
  * Once a week, from the site's weekday and hour on (its own time zone), last week's records
  * (Monday to Sunday) go to the list. The key is the week reported, so a sweep later that week, or a
- * second process, finds the event already there. The workbook is made when each e-mail is sent.
+ * second process, finds the event already there. A week in which the site started no batch sends
+ * nothing (as a day with nothing to sign sends no digest). The workbook is made when each e-mail is sent.
  */
 async function weeklyRecords(now: number) {
   const all = await db.select().from(sites);
@@ -285,6 +286,9 @@ async function weeklyRecords(now: number) {
     const week = lastWeek(site.timeZone, now);
     const key = isoWeekKey(week.from);
     if (sent.has(`${site.id}|${key}`)) continue;
+    const { fromMs, toMs } = rangeInstants(week, site.timeZone);
+    const [any] = await db.select({ id: batches.id }).from(batches).where(and(eq(batches.siteId, site.id), gte(batches.startedAt, new Date(fromMs)), lt(batches.startedAt, new Date(toMs)))).limit(1);
+    if (!any) continue;
     await raiseEvent(site, { kind: "weekly_records", key, batchId: null, deadlineAt: null, detail: { week: key, from: week.from, to: week.to } });
   }
 }
