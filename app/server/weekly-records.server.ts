@@ -1,8 +1,8 @@
 // The weekly records e-mail: last week's workbook, made when the e-mail is sent (so it holds the
 // record as it stands then), attached when it is small enough, with the period's counts in the body.
-import { Writable } from "node:stream";
 import type { sites } from "~db/schema";
 import { getI18n, isLanguage } from "~/lib/i18n";
+import { boundedSink } from "./bounded-sink.server";
 import { env } from "./env.server";
 import { periodSummary, recordsWorkbook } from "./export.server";
 
@@ -11,24 +11,6 @@ type Site = typeof sites.$inferSelect;
 /** Larger files are not attached (many mail servers refuse them); the e-mail links to the export instead. */
 export const ATTACHMENT_LIMIT_BYTES = 10 * 1024 * 1024;
 const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet";
-
-/**
- * A sink that keeps what is written up to `limit` bytes and only counts the rest, so a workbook too
- * large to attach never sits whole in memory. `result()` gives the bytes, or null past the limit.
- */
-export function boundedSink(limit: number) {
-  const chunks: Buffer[] = [];
-  let size = 0;
-  const sink = new Writable({
-    write(chunk: Buffer, _encoding, done) {
-      size += chunk.length;
-      if (size <= limit) chunks.push(chunk);
-      else chunks.length = 0;
-      done();
-    },
-  });
-  return { sink, size: () => size, result: () => (size <= limit ? Buffer.concat(chunks) : null) };
-}
 
 export type WeeklyDetail = { week: string; from: string; to: string };
 
