@@ -162,6 +162,7 @@ export default function SiteAlerts({ loaderData, actionData }: Route.ComponentPr
                 <p className="text-lg font-extrabold">
                   {t(`alerts.kind.${e.kind}`)}
                   {e.product ? ` · ${e.product} (${t("alertMail.lot")} ${e.lotCode})` : ""}
+                  {e.kind === "weekly_records" ? ` · ${(e.detail as { from?: string }).from} – ${(e.detail as { to?: string }).to}` : ""}
                 </p>
                 <p className="text-sm text-ink-soft">
                   {t("alerts.raised")}: {when(e.createdAt)}
@@ -176,7 +177,7 @@ export default function SiteAlerts({ loaderData, actionData }: Route.ComponentPr
                     {t("alerts.open")}
                   </Link>
                 ) : null}
-                {e.acknowledgedAt || e.resolvedAt || e.kind === "verification_digest" ? null : (
+                {e.acknowledgedAt || e.resolvedAt || e.kind === "verification_digest" || e.kind === "weekly_records" ? null : (
                   <Form method="post">
                     <input type="hidden" name="intent" value="acknowledge" />
                     <input type="hidden" name="eventId" value={e.id} />
@@ -226,6 +227,7 @@ export default function SiteAlerts({ loaderData, actionData }: Route.ComponentPr
           {(Object.keys(lists) as AlertKind[]).map((kind) => (
             <fieldset key={kind} className="rounded-xl border-2 border-line p-4">
               <legend className="px-2 font-extrabold">{t(`alerts.kind.${kind}`)}</legend>
+              {kind === "weekly_records" ? <p className="mb-3 text-sm text-ink-soft">{t("weeklyRecords.alertsHelp")}</p> : null}
               {errors[kind] ? (
                 <p className="field-error" role="alert">
                   {t(errors[kind])}
@@ -233,7 +235,8 @@ export default function SiteAlerts({ loaderData, actionData }: Route.ComponentPr
               ) : null}
               <ul className="grid gap-2">
                 {people
-                  .filter((p) => kind === "verification_digest" || p.role !== "qa")
+                  // QA may be on the digest's and the weekly records' lists only (as mayReceive says).
+                  .filter((p) => kind === "verification_digest" || kind === "weekly_records" || p.role !== "qa")
                   .map((p) => {
                     const at = lists[kind].indexOf(p.id);
                     const shown = effective[kind].indexOf(p.id);

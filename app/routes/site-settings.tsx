@@ -27,6 +27,8 @@ const SiteSettingsSchema = z.object({
   overdueGraceMinutes: wholeNumber(0, 120),
   retentionDays: wholeNumber(365, 3650),
   allowSelfVerification: z.literal("true").optional().transform((v) => v === "true"),
+  weeklyRecordsWeekday: z.coerce.number({ error: "weeklyRecords.badWeekday" }).int("weeklyRecords.badWeekday").min(1, "weeklyRecords.badWeekday").max(7, "weeklyRecords.badWeekday").optional(),
+  weeklyRecordsHour: z.coerce.number({ error: "weeklyRecords.badHour" }).int("weeklyRecords.badHour").min(0, "weeklyRecords.badHour").max(23, "weeklyRecords.badHour").optional(),
 });
 
 const numberLimits = { readingIntervalMinutes: [5, 240], overdueGraceMinutes: [0, 120], retentionDays: [365, 3650] } as const;
@@ -43,6 +45,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       overdueGraceMinutes: site.overdueGraceMinutes,
       retentionDays: site.retentionDays,
       allowSelfVerification: site.allowSelfVerification,
+      weeklyRecordsWeekday: site.weeklyRecordsWeekday,
+      weeklyRecordsHour: site.weeklyRecordsHour,
     },
     timeZones: [...timeZones],
     ruleSets: ruleSets.map((r) => ({ value: r.code, label: r.name })),
@@ -53,7 +57,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   const { user, site } = await requireRole(request, can.manageSite, params.siteId);
   const parsed = SiteSettingsSchema.safeParse(Object.fromEntries(await request.formData()));
   if (!parsed.success) return data({ ok: false, errors: fieldErrors(parsed.error) }, { status: 400 });
-  const changes = parsed.data;
+  // A form without the weekly fields (an older page) leaves them as they are.
+  const changes = Object.fromEntries(Object.entries(parsed.data).filter(([, v]) => v !== undefined)) as typeof parsed.data;
   const before = Object.fromEntries(Object.keys(changes).map((k) => [k, site[k as keyof typeof site]]));
   await db.transaction(async (tx) => {
     await tx.update(sites).set(changes).where(eq(sites.id, site.id));
@@ -101,6 +106,20 @@ export default function SiteSettings({ loaderData, actionData }: Route.Component
           <Field label={t("settings.retention")} name="retentionDays" type="number" inputMode="numeric" defaultValue={site.retentionDays} error={num("retentionDays")} />
         </div>
         <CheckboxField label={t("settings.selfVerification")} name="allowSelfVerification" defaultChecked={site.allowSelfVerification} />
+        <fieldset className="mb-4">
+          <legend className="mb-1 font-extrabold">{t("weeklyRecords.settingsTitle")}</legend>
+          <p className="mb-3 text-sm text-ink-soft">{t("weeklyRecords.help")}</p>
+          <div className="grid gap-x-4 sm:grid-cols-2">
+            <SelectField
+              label={t("weeklyRecords.weekday")}
+              name="weeklyRecordsWeekday"
+              defaultValue={String(site.weeklyRecordsWeekday)}
+              options={["1", "2", "3", "4", "5", "6", "7"].map((d) => ({ value: d, label: t(`weeklyRecords.weekdays.${d}`) }))}
+              error={errors.weeklyRecordsWeekday && t(errors.weeklyRecordsWeekday)}
+            />
+            <Field label={t("weeklyRecords.hour")} name="weeklyRecordsHour" type="number" inputMode="numeric" defaultValue={site.weeklyRecordsHour} error={errors.weeklyRecordsHour && t(errors.weeklyRecordsHour)} />
+          </div>
+        </fieldset>
         <button type="submit" className="btn-primary" disabled={busy}>
           {t("settings.save")}
         </button>

@@ -5,10 +5,11 @@ import PgBoss from "pg-boss";
 import { alertDeliveries, alertEvents, sites, users } from "~db/schema";
 import { getI18n, isLanguage } from "~/lib/i18n";
 import { siteTime } from "~/lib/site-time";
-import { setEnqueue, sweep } from "./alerts.server";
+import { broadcastKinds, setEnqueue, sweep } from "./alerts.server";
 import { db } from "./db.server";
 import { env } from "./env.server";
 import { sendMail } from "./mail.server";
+import { composeWeeklyRecords, type WeeklyDetail } from "./weekly-records.server";
 
 export const MAIL_QUEUE = "alert-mail";
 // A short tag for this process (host and pid hashed, so /healthz shows nothing about the machine).
@@ -105,7 +106,7 @@ export async function deliver(deliveryId: string, attempt: { retryCount: number;
       .where(eq(alertEvents.id, claimed.eventId));
     // An alert someone has in hand, or whose condition cleared while the e-mail waited (an SMTP outage,
     // an escalation queued just before the acknowledgement), is not sent late. A digest always goes.
-    if (row.event.kind !== "verification_digest" && (row.event.acknowledgedAt || row.event.resolvedAt)) {
+    if (!broadcastKinds.includes(row.event.kind) && (row.event.acknowledgedAt || row.event.resolvedAt)) {
       await db.update(alertDeliveries).set({ status: "skipped", lastError: row.event.acknowledgedAt ? "Acknowledged before it was sent" : "The condition cleared before it was sent" }).where(mine);
       return;
     }
@@ -118,7 +119,10 @@ export async function deliver(deliveryId: string, attempt: { retryCount: number;
         .where(and(eq(alertDeliveries.eventId, claimed.eventId), eq(alertDeliveries.level, 0)));
       firstRecipient = first?.name;
     }
-    const mail = composeAlert({
+    // The weekly records: the workbook is made now, for this recipient's language.
+    const mail = row.event.kind === "weekly_records"
+      ? await composeWeeklyRecords({ site: row.site, detail: row.event.detail as WeeklyDetail, language: row.language, deliveryId: claimed.id })
+      : composeAlert({
       kind: row.event.kind,
       eventId: row.event.id,
       level: claimed.level,

@@ -1,4 +1,4 @@
-import { and, asc, eq, inArray, isNull, lt, sql } from "drizzle-orm";
+import { and, asc, eq, gte, inArray, isNull, lt, sql } from "drizzle-orm";
 import { alertDeliveries, alertEvents, alertRecipients, batches, memberships, products, sites, users } from "~db/schema";
 import type { Assessment } from "~/lib/engine/assess";
 import { recordAudit } from "./audit.server";
@@ -6,9 +6,12 @@ import { listActive, refreshSnapshot } from "./batches.server";
 import { db, pool } from "./db.server";
 import { env } from "./env.server";
 import { awaitingVerification } from "./verification.server";
+import { lastWeek, rangeInstants } from "~/lib/records-export";
 
 export type AlertKind = (typeof alertEvents.$inferSelect)["kind"];
-export const alertKinds: AlertKind[] = ["off_track", "stage_missed", "reading_overdue", "verification_digest"];
+export const alertKinds: AlertKind[] = ["off_track", "stage_missed", "reading_overdue", "verification_digest", "weekly_records"];
+/** Kinds sent to everyone on the list at once, never escalated and sent even when nobody acknowledges them. */
+export const broadcastKinds: AlertKind[] = ["verification_digest", "weekly_records"];
 type Site = typeof sites.$inferSelect;
 
 /** Set by the worker when this process runs one, so a new delivery is queued at once (the sweep catches the rest). */
@@ -38,8 +41,8 @@ export function alertMembers(siteId: string) {
 }
 type Member = Awaited<ReturnType<typeof alertMembers>>[number];
 
-/** QA receives only the digest; managers and administrators receive every kind. */
-export const mayReceive = (m: Pick<Member, "role">, kind: AlertKind) => kind === "verification_digest" || m.role !== "qa";
+/** QA receives only the digest and the weekly records; managers and administrators receive every kind. */
+export const mayReceive = (m: Pick<Member, "role">, kind: AlertKind) => broadcastKinds.includes(kind) || m.role !== "qa";
 
 /** The saved lists of a site (one kind, or all), in order. */
 export function savedLists(siteId: string, kind?: AlertKind) {
@@ -56,6 +59,8 @@ export function effectiveRecipients(members: Member[], listed: { kind: AlertKind
   const chosen = listed.filter((l) => l.kind === kind).map((l) => eligible.find((e) => e.id === l.userId)).filter((e) => e !== undefined);
   // A list whose people have all left or been deactivated falls back to the default, never to nobody.
   if (chosen.length) return chosen;
+  // The weekly records go to QA by default; managers and administrators get them only when listed.
+  if (kind === "weekly_records") return eligible.filter((e) => e.role === "qa");
   const managers = eligible.filter((e) => e.role === "manager");
   return managers.length ? managers : eligible.filter((e) => e.role === "admin");
 }
@@ -79,7 +84,7 @@ export async function raiseEvent(site: Site, input: { kind: AlertKind; key: stri
       .returning();
     if (!ev) return null;
     const recipients = await recipientsFor(site.id, input.kind);
-    const first = input.kind === "verification_digest" ? recipients : recipients.slice(0, 1);
+    const first = broadcastKinds.includes(input.kind) ? recipients : recipients.slice(0, 1);
     const ds = first.length
       ? await tx.insert(alertDeliveries).values(first.map((r) => ({ eventId: ev.id, level: 0, userId: r.id, email: r.email }))).onConflictDoNothing().returning({ id: alertDeliveries.id })
       : [];
@@ -253,6 +258,41 @@ async function digests(now: number) {
   }
 }
 
+/** The ISO week of a Monday (YYYY-MM-DD) as "2026-W48": the week that holds its Thursday. */
+export function isoWeekKey(monday: string) {
+  const thursday = new Date(Date.parse(`${monday}T00:00:00Z`) + 3 * 86_400_000);
+  const year = thursday.getUTCFullYear();
+  const week = Math.floor((thursday.getTime() - Date.UTC(year, 0, 1)) / (7 * 86_400_000)) + 1;
+  return `${year}-W${String(week).padStart(2, "0")}`;
+}
+
+/**
+ * Once a week, from the site's weekday and hour on (its own time zone), last week's records
+ * (Monday to Sunday) go to the list. The key is the week reported, so a sweep later that week, or a
+ * second process, finds the event already there. A week in which the site started no batch sends
+ * nothing (as a day with nothing to sign sends no digest). The workbook is made when each e-mail is sent.
+ */
+async function weeklyRecords(now: number) {
+  const all = await db.select().from(sites);
+  const keys = await db
+    .select({ siteId: alertEvents.siteId, key: alertEvents.dedupeKey })
+    .from(alertEvents)
+    .where(and(eq(alertEvents.kind, "weekly_records"), sql`${alertEvents.createdAt} > ${new Date(now - 8 * 86_400_000)}`));
+  const sent = new Set(keys.map((k) => `${k.siteId}|${k.key}`));
+  for (const site of all) {
+    const { date, hour } = localDateHour(now, site.timeZone);
+    const weekday = ((new Date(`${date}T00:00:00Z`).getUTCDay() + 6) % 7) + 1;
+    if (weekday < site.weeklyRecordsWeekday || (weekday === site.weeklyRecordsWeekday && hour < site.weeklyRecordsHour)) continue;
+    const week = lastWeek(site.timeZone, now);
+    const key = isoWeekKey(week.from);
+    if (sent.has(`${site.id}|${key}`)) continue;
+    const { fromMs, toMs } = rangeInstants(week, site.timeZone);
+    const [any] = await db.select({ id: batches.id }).from(batches).where(and(eq(batches.siteId, site.id), gte(batches.startedAt, new Date(fromMs)), lt(batches.startedAt, new Date(toMs)))).limit(1);
+    if (!any) continue;
+    await raiseEvent(site, { kind: "weekly_records", key, batchId: null, deadlineAt: null, detail: { week: key, from: week.from, to: week.to } });
+  }
+}
+
 /**
  * An alert nobody acknowledged, whose last e-mail went out (or finally failed) at least the site's
  * escalation delay ago, goes to the next recipient on the list. One level at a time; never for a
@@ -263,7 +303,7 @@ async function escalate(now: number) {
     .select({ event: alertEvents, site: sites })
     .from(alertEvents)
     .innerJoin(sites, eq(sites.id, alertEvents.siteId))
-    .where(and(isNull(alertEvents.acknowledgedAt), isNull(alertEvents.resolvedAt), sql`${alertEvents.kind} <> 'verification_digest'`, sql`${alertEvents.createdAt} > ${new Date(now - 2 * 86_400_000)}`));
+    .where(and(isNull(alertEvents.acknowledgedAt), isNull(alertEvents.resolvedAt), sql`${alertEvents.kind} NOT IN ('verification_digest', 'weekly_records')`, sql`${alertEvents.createdAt} > ${new Date(now - 2 * 86_400_000)}`));
   if (!open.length) return;
   const ds = await db.select().from(alertDeliveries).where(inArray(alertDeliveries.eventId, open.map((o) => o.event.id)));
   for (const { event, site } of open) {
@@ -359,7 +399,7 @@ export async function sweep(now = Date.now()) {
         .update(alertEvents)
         .set({ resolvedAt: new Date(now) })
         .where(and(isNull(alertEvents.resolvedAt), sql`${alertEvents.batchId} IN (SELECT id FROM batches WHERE state <> 'cooling')`));
-      for (const step of [digests, escalate, recover]) await step(now).catch((e) => console.error(`alert sweep, ${step.name}:`, e instanceof Error ? e.message : e));
+      for (const step of [digests, weeklyRecords, escalate, recover]) await step(now).catch((e) => console.error(`alert sweep, ${step.name}:`, e instanceof Error ? e.message : e));
       return { swept: true, batches: list.length };
     } finally {
       await client.query("SELECT pg_advisory_unlock($1)", [SWEEP_LOCK]);

@@ -341,7 +341,8 @@ export type BatchRow = {
   learnedBatches: number | null;
 };
 
-function assessRows(site: Site, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt?: number) {
+/** The assessment from rows the caller already read (the export's pictures read a page at a time). */
+export function assessRows(site: Site, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt?: number) {
   return assessBatch(assessInput(site, row, rows, now, movedAt));
 }
 

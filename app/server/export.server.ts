@@ -3,7 +3,7 @@
 // readings, actions, confirmations and signatures in one query each) and written as they come.
 import { PassThrough, Readable, type Writable } from "node:stream";
 import { createReadableStreamFromReadable } from "@react-router/node";
-import { and, asc, desc, eq, gte, inArray, lt, sql } from "drizzle-orm";
+import { and, asc, count, desc, eq, gte, inArray, lt, sql } from "drizzle-orm";
 import ExcelJS from "exceljs";
 import { actionConfirmations, batches, correctiveActions, equipment, organisations, readings, products, sites, users, verifications } from "~db/schema";
 import { getI18n, type Language } from "~/lib/i18n";
@@ -11,17 +11,27 @@ import { csvLine, exportFileName, ExportRangeSchema, lastWeek, neutraliseFormula
 import { getRuleSet, ruleSets } from "~/lib/rule-sets";
 import { fromCelsius, toCelsius } from "~/lib/temperature";
 import { recordAudit, type Actor } from "./audit.server";
-import { effectiveReadings, evaluateRows, type BatchRow } from "./batches.server";
+import { chartSeries } from "./batch-view.server";
+import { assessRows, effectiveReadings, evaluateRows, type BatchRow } from "./batches.server";
+import { CURVE_PNG, curvePng } from "./curve-picture.server";
 import { db } from "./db.server";
 import { env } from "./env.server";
+import { awaitingVerification } from "./verification.server";
+import { addSheetPictures, type SheetPicture } from "./xlsx-pictures.server";
 
 type Site = typeof sites.$inferSelect;
-// A signed-in person, or a share link (its own actor, and the cover names the link instead of a person).
-export type Exporter = { id: string; name: string; email: string; language: Language; actor?: Actor; label?: string };
+/** Who asks for the file: a signed-in person, or the system on someone's behalf (the weekly e-mail), named by `label`. */
+export type Exporter = { id: string; name: string; email: string; language: Language } | { actor: Actor; label: string; language: Language };
 export type ExportRange = { from: string; to: string };
 type Ctx = { site: Site; range: ExportRange; fromMs: number; toMs: number; now: number; lang: Language };
 
 const PAGE_SIZE = 250;
+/**
+ * Pictures per workbook at most. exceljs keeps every picture's bytes until the file is finished (see
+ * xlsx-pictures.server.ts), so the count bounds the memory: 100 × ≈ 35 KB ≈ 3.5 MB, and ≈ 5 s of
+ * rendering. Flagged batches come first; every batch's curve is on its batch page.
+ */
+export const MAX_PICTURES = 100;
 const STAGE_COLUMNS = Math.max(...ruleSets.map((r) => r.stages.length));
 const round1 = (x: number) => Math.round(x * 10) / 10;
 
@@ -121,6 +131,39 @@ async function counts(ctx: Ctx) {
            (SELECT count(*) FROM ${correctiveActions} WHERE ${correctiveActions.batchId} IN (${inRange})) AS actions`);
   const row = result.rows[0];
   return { batches: Number(row.batches), readings: Number(row.readings), actions: Number(row.actions) };
+}
+
+/**
+ * A batch whose record shows something to look at: a stage missed, a discard, a corrective action or a
+ * reading entered late. The pictures and the weekly e-mail's counts use the same rule.
+ */
+export const flaggedBatch = sql<boolean>`(${batches.missedAt} IS NOT NULL OR ${batches.state} = 'discarded'
+  OR EXISTS (SELECT 1 FROM ${correctiveActions} ca WHERE ca.batch_id = ${batches.id})
+  OR EXISTS (SELECT 1 FROM ${readings} r WHERE r.batch_id = ${batches.id} AND r.late))`;
+
+const inPeriod = (ctx: Pick<Ctx, "site" | "fromMs" | "toMs">) => and(eq(batches.siteId, ctx.site.id), gte(batches.startedAt, new Date(ctx.fromMs)), lt(batches.startedAt, new Date(ctx.toMs)));
+
+/**
+ * A period's batches, flagged ones and ended ones nobody has verified (as they stand now). Each is a
+ * condition in WHERE: there drizzle qualifies the columns (in a select list it would not, and the
+ * subqueries' own `id` would win).
+ */
+export async function periodSummary(site: Site, range: ExportRange) {
+  const { fromMs, toMs } = rangeInstants(range, site.timeZone);
+  const where = inPeriod({ site, fromMs, toMs });
+  const [all, flagged, unverified] = await Promise.all(
+    [undefined, flaggedBatch, awaitingVerification].map((condition) => db.select({ n: count() }).from(batches).where(and(where, condition)).then(([r]) => r.n)),
+  );
+  return { batches: all, flagged, unverified };
+}
+
+/** The batches that get a picture: flagged first, then by start, at most MAX_PICTURES. */
+async function pictureSelection(ctx: Ctx) {
+  const [rows, [flagged]] = await Promise.all([
+    db.select({ id: batches.id }).from(batches).where(inPeriod(ctx)).orderBy(desc(flaggedBatch), asc(batches.startedAt), asc(batches.id)).limit(MAX_PICTURES),
+    db.select({ n: count() }).from(batches).where(and(inPeriod(ctx), flaggedBatch)),
+  ]);
+  return { ids: new Set(rows.map((r) => r.id)), flagged: Math.min(flagged.n, MAX_PICTURES) };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -301,10 +344,107 @@ function tables(ctx: Ctx, names: Map<string, string>) {
   return { batches: batchTable, readings: readingTable, actions: actionTable };
 }
 
+// ---------------------------------------------------------------------------------------------
+// The curves: one picture per selected batch, under a caption row, two to a printed page.
+
+/** How the pictures sit in the Curves sheet: shown at 600 px wide, 20 rows of 20 px (15 pt) each. */
+export const CURVE_SHOWN = { widthPx: 600, heightPx: Math.round((600 * CURVE_PNG.height) / CURVE_PNG.width) };
+const CURVE_ROWS = Math.ceil(CURVE_SHOWN.heightPx / 20) + 1;
+type PictureRow = { picture: Omit<SheetPicture, "row" | "col">; rows: number; pageBreak: boolean };
+type SheetRow = Cell[] | PictureRow;
+const isPicture = (r: SheetRow): r is PictureRow => !Array.isArray(r);
+
+type Words = (key: string, o?: Record<string, unknown>) => string;
+const curveWords = (lang: Language): Words => {
+  const t = getI18n(lang).t;
+  return (key, o) => t(`recordsCurves.${key}`, o ?? {}) as string;
+};
+
+function curveColumns(s: Words, c: Words): Column[] {
+  return [
+    { header: s("lot"), width: 14 },
+    { header: s("product"), width: 22 },
+    { header: s("started"), width: 17, style: "datetime" },
+    { header: s("outcome"), width: 11 },
+    { header: c("flags"), width: 20 },
+    { header: c("batchPage"), width: 10 },
+  ];
+}
+
+async function* curveRows(ctx: Ctx, selected: Set<string>): AsyncGenerator<SheetRow> {
+  const t = getI18n(ctx.lang).t;
+  const s = (key: string, o?: Record<string, unknown>) => t(`recordsSheet.${key}`, o ?? {}) as string;
+  const c = curveWords(ctx.lang);
+  const zone = ctx.site.timeZone;
+  const labels = {
+    title: t("chart.title") as string,
+    timeAxis: t("chart.time") as string,
+    temperatureAxis: t("chart.temperature") as string,
+    reading: t("chart.reading") as string,
+    late: t("batch.late") as string,
+    corrected: t("chart.corrected") as string,
+    predicted: t("chart.predicted") as string,
+    band: t("chart.band") as string,
+    deadline: t("batch.deadline") as string,
+    dangerZone: t("chart.dangerZone") as string,
+    summaryNoReadings: t("chart.summaryNoReadings") as string,
+    summaryPrediction: t("chart.summaryPrediction") as string,
+  };
+  let shown = 0;
+  for await (const page of batchPages(ctx)) {
+    const mine = page.filter((r) => selected.has(r.batch.id));
+    if (!mine.length) continue;
+    const d = await pageDetails(mine.map((r) => r.batch.id), { readings: true, actions: true });
+    for (const row of mine) {
+      const rs = d.readings.get(row.batch.id) ?? [];
+      const acts = d.actions.get(row.batch.id) ?? [];
+      const moves = acts.filter((a) => a.kind === "change_method").map((a) => a.takenAt.getTime());
+      const a = assessRows(ctx.site, row, rs, ctx.now, moves.length ? Math.max(...moves) : undefined);
+      // An ended batch is drawn as it ended; one still cooling as it stood at the export.
+      const at = row.batch.endedAt ? Math.min(row.batch.endedAt.getTime(), ctx.now) : ctx.now;
+      const record = rs.filter((r) => !r.correctsReadingId).map((r) => ({ t: r.takenAt.getTime(), c: r.valueC, late: r.late }));
+      const series = chartSeries(a, record, at);
+      const rule = getRuleSet(row.batch.ruleSetCode)!;
+      const png = await curvePng({
+        readings: record,
+        predicted: series.predicted,
+        band: series.band,
+        stages: series.stages.map((st) => ({ ...st, label: t("home.stage", { n: st.label }) as string })),
+        startedAt: row.batch.startedAt.getTime(),
+        now: at,
+        unit: ctx.site.temperatureUnit,
+        timeZone: zone,
+        dangerZone: { lowC: rule.stages.at(-1)!.to.c, highC: rule.stages[0].from.c },
+        labels: { ...labels, now: c(row.batch.endedAt ? "ended" : "atExport"), summaryReadings: t("chart.summaryReadings", { count: record.length }) as string },
+      });
+      const flags = [
+        row.batch.missedAt ? c("flagMissed") : null,
+        row.batch.state === "discarded" ? c("flagDiscarded") : null,
+        acts.length ? c("flagAction") : null,
+        rs.some((r) => r.late) ? c("flagLate") : null,
+      ].filter(Boolean);
+      yield [
+        row.batch.lotCode,
+        row.product.name,
+        wallClock(row.batch.startedAt.getTime(), zone),
+        s(`outcomes.${a.evaluation.outcome}`),
+        flags.join(", "),
+        { url: new URL(`/sites/${ctx.site.id}/batches/${row.batch.id}`, env.APP_URL).href, text: c("open") },
+      ];
+      shown += 1;
+      yield {
+        picture: { png, ...CURVE_SHOWN, name: `${row.batch.lotCode} ${row.product.name}`, description: c("description", { lot: row.batch.lotCode, product: row.product.name }) },
+        rows: CURVE_ROWS,
+        pageBreak: shown % 2 === 0,
+      };
+    }
+  }
+}
+
 // Every string that lands in a data row may come from a person (lot codes, names, reasons): the
 // workbook's cells are plain strings, never formulas, but a copy pasted or saved as CSV elsewhere would be.
-async function* neutralised(rows: AsyncGenerator<Cell[]>) {
-  for await (const row of rows) yield row.map((c) => (typeof c === "string" ? neutraliseFormula(c) : c));
+async function* neutralised<R extends SheetRow>(rows: AsyncGenerator<R>) {
+  for await (const row of rows) yield isPicture(row) ? row : row.map((c) => (typeof c === "string" ? neutraliseFormula(c) : c));
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -318,7 +458,9 @@ type SheetSpec = {
   headRows: { cells: Cell[]; style: CellStyle }[];
   /** An autofilter on the last head row down to the last data row. */
   table: boolean;
-  rows: AsyncIterable<Cell[]>;
+  orientation?: "portrait" | "landscape";
+  /** Data rows; a picture row anchors its picture at the next row and leaves `rows` empty rows under it. */
+  rows: AsyncIterable<SheetRow>;
 };
 
 const BOLD = { name: "Calibri", size: 11, bold: true };
@@ -357,7 +499,7 @@ async function writeWorkbook(out: Writable, sheets: SheetSpec[]) {
     const sheet = workbook.addWorksheet(spec.name, {
       views: frozen ? [{ state: "frozen", ySplit: head, topLeftCell: `A${head + 1}`, activeCell: `A${head + 1}` }] : [{ state: "normal" }],
       pageSetup: {
-        orientation: "landscape",
+        orientation: spec.orientation ?? "landscape",
         fitToPage: true,
         fitToWidth: 1,
         fitToHeight: 0,
@@ -367,8 +509,11 @@ async function writeWorkbook(out: Writable, sheets: SheetSpec[]) {
       headerFooter: { oddFooter: "&A · &P / &N" },
     });
     sheet.columns = spec.columns.map((c) => ({ width: c.width }));
+    let written = 0;
+    const pictures: SheetPicture[] = [];
     const put = (cells: Cell[], rowStyle?: CellStyle) => {
       const row = sheet.addRow([]);
+      written += 1;
       cells.forEach((value, i) => {
         if (value === null || value === undefined || value === "") return;
         if (typeof value === "number" && !Number.isFinite(value)) return;
@@ -386,14 +531,21 @@ async function writeWorkbook(out: Writable, sheets: SheetSpec[]) {
         if (style) cell.style = STYLES[style];
       });
       row.commit();
+      return row;
     };
     for (const r of spec.headRows) put(r.cells, r.style);
     let last = head;
-    for await (const cells of spec.rows) {
-      put(cells);
-      last += 1;
+    for await (const item of spec.rows) {
+      if (isPicture(item)) {
+        pictures.push({ ...item.picture, row: written, col: 0 });
+        let row: ExcelJS.Row | undefined;
+        for (let i = 0; i < item.rows; i++) row = put([]);
+        if (item.pageBreak) row?.addPageBreak();
+      } else put(item);
+      last = written;
       await backpressure(out);
     }
+    addSheetPictures(workbook, sheet, pictures);
     // The streaming writer writes the filter after the rows, so the range can end at the last row. It
     // does not add the hidden _xlnm._FilterDatabase name Excel itself writes; the filter works without it.
     if (frozen) sheet.autoFilter = { from: { row: head, column: 1 }, to: { row: last, column: Math.max(spec.columns.length, 1) } };
@@ -405,17 +557,17 @@ async function writeWorkbook(out: Writable, sheets: SheetSpec[]) {
 // ---------------------------------------------------------------------------------------------
 // The two formats.
 
-async function context(site: Site, user: Exporter, range: ExportRange, format: string) {
+async function context(site: Site, user: Exporter, range: ExportRange, format: string, audit: Record<string, unknown> = {}) {
   const now = Date.now();
   const { fromMs, toMs } = rangeInstants(range, site.timeZone);
   await recordAudit(db, {
-    actor: user.actor ?? { kind: "user", userId: user.id },
+    actor: "actor" in user ? user.actor : { kind: "user", userId: user.id },
     organisationId: site.organisationId,
     siteId: site.id,
     action: "records.exported",
     entity: "site",
     entityId: site.id,
-    data: { from: range.from, to: range.to, format },
+    data: { from: range.from, to: range.to, format, ...audit },
   });
   return { site, range, fromMs, toMs, now, lang: user.language } satisfies Ctx;
 }
@@ -430,15 +582,25 @@ function download(body: Readable, fileName: string, contentType: string) {
   });
 }
 
-/** The workbook: a cover, then batches, readings and corrective actions; streamed as it is written. */
-export async function exportWorkbook(site: Site, user: Exporter, range: ExportRange) {
-  const ctx = await context(site, user, range, "xlsx");
+/**
+ * The workbook (a cover; batches, readings and corrective actions; the curves), ready to write: the
+ * export is audited and its cover counted here, and `write(out)` streams the file into `out` and ends
+ * it (resolving when the last byte is handed over). `audit` adds to the audit entry's data.
+ */
+export async function recordsWorkbook(site: Site, user: Exporter, range: ExportRange, audit: Record<string, unknown> = {}) {
+  const ctx = await context(site, user, range, "xlsx", audit);
   const [org] = await db.select({ name: organisations.name }).from(organisations).where(eq(organisations.id, site.organisationId));
-  const [names, totals] = await Promise.all([userNames(site.organisationId), counts(ctx)]);
+  const [names, totals, selection] = await Promise.all([userNames(site.organisationId), counts(ctx), pictureSelection(ctx)]);
   const t = getI18n(ctx.lang).t;
   const s = (key: string, o?: Record<string, unknown>) => t(`recordsSheet.${key}`, o ?? {}) as string;
   const ruleSet = getRuleSet(site.ruleSetCode);
   const zone = site.timeZone;
+  const c = curveWords(ctx.lang);
+  const pictured = selection.ids.size;
+  const curvesNote =
+    pictured === totals.batches
+      ? c("coverAll", { count: pictured })
+      : c("coverSome", { count: pictured, total: totals.batches, flagged: selection.flagged, max: MAX_PICTURES });
   const cover: Cell[][] = [
     [s("organisation"), org?.name ?? ""],
     [s("site"), site.name],
@@ -446,9 +608,10 @@ export async function exportWorkbook(site: Site, user: Exporter, range: ExportRa
     [s("timeZone"), zone],
     [s("ruleSet"), ruleSet ? s("ruleSetValue", { name: ruleSet.name, code: ruleSet.code, version: ruleSet.version }) : site.ruleSetCode],
     [s("citation"), ruleSet ? `${ruleSet.citation}. ${ruleSet.source}` : ""],
-    [s("exportedBy"), user.label ?? `${user.name} <${user.email}>`],
+    [s("exportedBy"), "actor" in user ? user.label : `${user.name} <${user.email}>`],
     [s("exportedAt"), wallClock(ctx.now, zone)],
     [s("counts"), s("countsValue", totals)],
+    [c("coverLabel"), curvesNote],
     [s("retention"), s("retentionValue", { days: site.retentionDays })],
     [s("caution"), t("app.caution") as string],
     ["", s("timeNote", { zone })],
@@ -463,26 +626,44 @@ export async function exportWorkbook(site: Site, user: Exporter, range: ExportRa
     table: true,
     rows: neutralised(table.rows()),
   });
+  const curveCols = curveColumns(s, c);
+  const write = (out: Writable) =>
+    writeWorkbook(out, [
+      {
+        name: s("coverName"),
+        columns: [{ width: 30, style: "label" }, { width: 100, style: "wrap" }],
+        headRows: [],
+        table: false,
+        rows: (async function* () {
+          yield [s("title")];
+          for (const row of cover) yield row;
+        })(),
+      },
+      sheet(tabs.batches),
+      sheet(tabs.readings),
+      sheet(tabs.actions),
+      {
+        name: c("sheetName"),
+        columns: curveCols,
+        // The note says what the pictures are (and are not) on every printed page.
+        headRows: [{ cells: [`${curvesNote} ${t("app.caution")}`], style: "label" }, { cells: curveCols.map((c) => c.header), style: "header" }],
+        table: false,
+        orientation: "portrait",
+        rows: neutralised(curveRows(ctx, selection.ids)),
+      },
+    ]);
+  return { fileName: exportFileName(site.name, range, "xlsx"), totals, pictured, write };
+}
+
+/** The workbook as a download, streamed as it is written. */
+export async function exportWorkbook(site: Site, user: Exporter, range: ExportRange) {
+  const workbook = await recordsWorkbook(site, user, range);
   const out = new PassThrough();
-  writeWorkbook(out, [
-    {
-      name: s("coverName"),
-      columns: [{ width: 30, style: "label" }, { width: 100, style: "wrap" }],
-      headRows: [],
-      table: false,
-      rows: (async function* () {
-        yield [s("title")];
-        for (const row of cover) yield row;
-      })(),
-    },
-    sheet(tabs.batches),
-    sheet(tabs.readings),
-    sheet(tabs.actions),
-  ]).catch((error) => {
+  workbook.write(out).catch((error) => {
     console.error("records export failed", error);
     out.destroy(error);
   });
-  return download(out, exportFileName(site.name, range, "xlsx"), "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet");
+  return download(out, workbook.fileName, "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet");
 }
 
 /** One table as CSV: UTF-8 with a byte-order mark (so spreadsheets read the accents), CRLF lines. */

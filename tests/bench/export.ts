@@ -84,7 +84,36 @@ async function measure(label: string, make: () => Promise<Response>) {
   );
 }
 
-await measure("workbook (.xlsx)", () => exportWorkbook(t.site, exporter, range));
+const { MAX_PICTURES } = await import("~/server/export.server");
+await measure(`workbook (.xlsx, ${MAX_PICTURES} curves)`, () => exportWorkbook(t.site, exporter, range));
+
+// One batch's picture as the Curves sheet makes it: the assessment from its rows, the chart's series, SVG, PNG.
+{
+  const { assessRows } = await import("~/server/batches.server");
+  const { chartSeries } = await import("~/server/batch-view.server");
+  const { curvePng } = await import("~/server/curve-picture.server");
+  const { products } = await import("~db/schema");
+  const [b] = await db.select().from(batches).where(eq(batches.siteId, t.site.id)).limit(1);
+  const [product] = await db.select().from(products).where(eq(products.id, b.productId));
+  const rs = await db.select().from(readings).where(eq(readings.batchId, b.id));
+  const row = { batch: b, product, learnedLnS: null, learnedSd: null, learnedBatches: null };
+  const labels = { title: "", timeAxis: "Time", temperatureAxis: "Core temperature", reading: "Probe reading", late: "late", corrected: "corrected", predicted: "Model estimate", band: "Likely range", now: "ended", deadline: "Deadline", dangerZone: "Danger zone", summaryReadings: "", summaryNoReadings: "", summaryPrediction: "" };
+  const N = 30;
+  let assessMs = 0;
+  let bytes = 0;
+  const start = performance.now();
+  for (let i = 0; i < N; i++) {
+    const a0 = performance.now();
+    const a = assessRows(t.site, row, rs, Date.now());
+    const record = rs.map((r) => ({ t: r.takenAt.getTime(), c: r.valueC }));
+    const series = chartSeries(a, record, b.endedAt!.getTime());
+    assessMs += performance.now() - a0;
+    const png = await curvePng({ readings: record, predicted: series.predicted, band: series.band, stages: series.stages, startedAt: b.startedAt.getTime(), now: b.endedAt!.getTime(), unit: t.site.temperatureUnit, timeZone: t.site.timeZone, labels });
+    bytes += png.length;
+  }
+  const per = (performance.now() - start) / N;
+  console.log(`${"one batch's curve".padEnd(28)} ${per.toFixed(0)} ms a picture (assessment and series ${(assessMs / N).toFixed(0)} ms), ${(bytes / N / 1024).toFixed(0)} KB`);
+}
 await measure("readings CSV", () => exportCsv(t.site, exporter, range, "readings"));
 await pool.end();
 const { pool: appPool } = await import("~/server/db.server");

@@ -3,10 +3,11 @@ import { and, asc, eq, inArray, sql } from "drizzle-orm";
 import ExcelJS from "exceljs";
 import sharp from "sharp";
 import { beforeAll, describe, expect, it } from "vitest";
-import { actionConfirmations, auditEvents, correctiveActions, readings, users, verifications } from "~db/schema";
+import { actionConfirmations, auditEvents, batches, correctiveActions, readings, users, verifications } from "~db/schema";
 import { en } from "~/lib/locales/en";
 import { lastWeek, localDateOf, rangeInstants } from "~/lib/records-export";
 import { getRuleSet } from "~/lib/rule-sets";
+import { endedBatch } from "../helpers/batches";
 import { Client, location, signedIn } from "../helpers/client";
 import { db, newTenant } from "../helpers/db";
 import { parseCsv } from "../helpers/csv";
@@ -126,7 +127,7 @@ describe("records export", () => {
     expect(res.headers.get("content-type")).toBe("application/vnd.openxmlformats-officedocument.spreadsheetml.sheet");
     expect(res.headers.get("content-disposition")).toBe(`attachment; filename="kitchen-${t.org.slug.slice(7)}-cooling-records-${range.from}-to-${range.to}.xlsx"`);
     const wb = await loadWorkbook(res);
-    expect(wb.worksheets.map((s) => s.name)).toEqual(["Cover", "Batches", "Readings", "Corrective actions"]);
+    expect(wb.worksheets.map((s) => s.name)).toEqual(["Cover", "Batches", "Readings", "Corrective actions", "Curves"]);
     const coverSheet = sheetOf(wb, "Cover");
     const cover = new Map(coverSheet.rows.slice(1).map((r) => [r[0], r[1]]));
     expect(coverSheet.rows[0][0]).toBe("Cooling records");
@@ -293,6 +294,74 @@ describe("records export", () => {
     expect(rows[fix][col("Value it corrects")]).toBe(120);
     expect(cellClock(rows[fix][col("Corrects reading taken at")])).toBe(siteClock(corrected.takenAt));
     expect(rows.filter((r) => r[col("Probe")] === "P-2")).toHaveLength(1);
+  });
+
+  it("the Curves sheet has one cooling-curve picture per batch, under a caption row naming the batch, two to a printed page", async () => {
+    const wb = await loadWorkbook(await download(`/sites/${t.site.id}/export.xlsx?from=${range.from}&to=${range.to}`));
+    const cover = new Map(sheetOf(wb, "Cover").rows.map((r) => [r[0], r[1]]));
+    expect(cover.get("Cooling curves")).toBe("The Curves sheet has the cooling curve of each of the 3 batches.");
+    const { sheet, rows } = sheetOf(wb, "Curves");
+    expect(rows[0][0]).toContain("The Curves sheet has");
+    expect(rows[0][0]).toContain(en.app.caution);
+    expect(rows[1]).toEqual(["Lot", "Product", "Started", "Outcome", "Flagged", "Batch page"]);
+    expect(sheet.pageSetup).toMatchObject({ orientation: "portrait", fitToWidth: 1, printTitlesRow: "1:2" });
+    const images = sheet.getImages().toSorted((a, b) => a.range.tl.nativeRow - b.range.tl.nativeRow);
+    expect(images).toHaveLength(3);
+    const dbBatches = (await db.execute<{ id: string; lot_code: string; started_at: string }>(sql`SELECT id, lot_code, started_at FROM batches WHERE site_id = ${t.site.id} ORDER BY started_at, id`)).rows;
+    for (const [i, image] of images.entries()) {
+      // The picture starts in column A on the row under its caption, and is shown 600 px wide.
+      expect(image.range.tl.nativeCol).toBe(0);
+      const caption = rows[image.range.tl.nativeRow - 1];
+      expect(caption[0]).toBe(`'${dbBatches[i].lot_code}`);
+      expect(caption[1]).toBe(t.product.name);
+      expect(cellClock(caption[2])).toBe(siteClock(dbBatches[i].started_at));
+      expect(caption[5]).toEqual({ text: "open", hyperlink: new URL(`/sites/${t.site.id}/batches/${dbBatches[i].id}`, process.env.APP_URL).href });
+      expect((image.range as unknown as { ext: { width: number; height: number } }).ext).toMatchObject({ width: 600, height: 378 });
+      const media = wb.getImage(Number(image.imageId));
+      expect(media.extension).toBe("png");
+      const meta = await sharp(media.buffer as unknown as Buffer).metadata();
+      expect(meta).toMatchObject({ format: "png", width: 1200, height: 756 });
+      // A real picture, not a blank: many colours are in it.
+      const { data } = await sharp(media.buffer as unknown as Buffer).resize(200).raw().toBuffer({ resolveWithObject: true });
+      expect(new Set(Array.from({ length: data.length / 3 }, (_, k) => data.readUIntBE(k * 3, 3))).size).toBeGreaterThan(20);
+    }
+    // Caption rows are evenly spaced: the picture's rows and one to spare under each.
+    expect(images[1].range.tl.nativeRow - images[0].range.tl.nativeRow).toBe(images[2].range.tl.nativeRow - images[1].range.tl.nativeRow);
+    expect(rows[images[0].range.tl.nativeRow - 1][3]).toBe("passed");
+    // The discarded batch shows why it is flagged.
+    // (its start reading, taken 20 min before it reached the server, is a late entry)
+    expect(rows[images[2].range.tl.nativeRow - 1][4]).toBe("discarded, corrective action, late entry");
+  });
+
+  it("a period with more batches than pictures allowed pictures the flagged ones first and says so on the cover", async () => {
+    const busy = await newTenant();
+    const q = await signedIn(busy.people.qa.email, busy.people.qa.password);
+    const start = Date.now() - 20 * 60 * MIN;
+    const made: { id: string; lotCode: string }[] = [];
+    for (let i = 0; i < 101; i++) {
+      const b = await endedBatch(busy, { state: "cooled", startedAt: new Date(start + i * 6 * MIN), endedAt: new Date(start + i * 6 * MIN + 240 * MIN), lotCode: `N-${String(i).padStart(3, "0")}` });
+      made.push(b);
+    }
+    // The two last to start are flagged: one missed a stage, one has a late entry.
+    await db.update(batches).set({ missedAt: new Date(start) }).where(eq(batches.id, made[100].id));
+    await db.insert(readings).values({ batchId: made[99].id, siteId: busy.site.id, clientId: randomUUID(), valueEntered: 40, unitEntered: "F", valueC: 4.4, takenAt: new Date(start + 99 * 6 * MIN + 200 * MIN), late: true, source: "api" });
+    const day = { from: localDateOf(start - 24 * 60 * MIN, busy.site.timeZone), to: localDateOf(Date.now(), busy.site.timeZone) };
+    const res = await q.get(`/sites/${busy.site.id}/export.xlsx?from=${day.from}&to=${day.to}`);
+    expect(res.status).toBe(200);
+    const wb = await loadWorkbook(res);
+    const cover = new Map(sheetOf(wb, "Cover").rows.map((r) => [r[0], r[1]]));
+    expect(cover.get("Cooling curves")).toContain("curves of 100 of the 101 batches (at most 100 a file): the 2 flagged batches first");
+    expect(cover.get("Cooling curves")).toContain("Every batch's curve is on its batch page.");
+    const { sheet, rows } = sheetOf(wb, "Curves");
+    const images = sheet.getImages();
+    expect(images).toHaveLength(100);
+    const pictured = images.map((im) => rows[im.range.tl.nativeRow - 1][0]);
+    expect(pictured).toContain("N-100");
+    expect(pictured).toContain("N-099");
+    // The one left out is the last unflagged batch to start; the rest keep their order by start.
+    expect(pictured).not.toContain("N-098");
+    expect(pictured.slice(0, 3)).toEqual(["N-000", "N-001", "N-002"]);
+    expect(rows[images.find((im) => rows[im.range.tl.nativeRow - 1][0] === "N-099")!.range.tl.nativeRow - 1][4]).toBe("late entry");
   });
 
   it("the corrective-actions sheet names the action, who took it and its confirmation", async () => {

@@ -38,6 +38,7 @@ export const alertsEn = {
       stage_missed: "Stage missed",
       reading_overdue: "Reading overdue",
       verification_digest: "Daily verification digest",
+      weekly_records: "Weekly records e-mail",
     },
     none: "No alerts yet.",
     batch: "Batch",

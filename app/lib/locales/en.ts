@@ -4,6 +4,8 @@ import { alertsEn } from "./en-alerts";
 import { recordsEn } from "./en-records";
 import { recordsViewEn } from "./en-records-view";
 import { shareEn } from "./en-share";
+import { curvesEn } from "./en-curves";
+import { weeklyEn } from "./en-weekly";
 export const en = {
   ...reviewEn,
   ...verifyEn,
@@ -11,6 +13,8 @@ export const en = {
   ...recordsEn,
   ...recordsViewEn,
   ...shareEn,
+  ...curvesEn,
+  ...weeklyEn,
   app: {
     name: "Chillwright",
     tagline: "Cooling records that catch a failing batch while it can still be saved.",

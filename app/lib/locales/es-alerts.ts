@@ -40,6 +40,7 @@ export const alertsEs: typeof alertsEn = {
       stage_missed: "Etapa incumplida",
       reading_overdue: "Lectura atrasada",
       verification_digest: "Resumen diario de verificación",
+      weekly_records: "Correo semanal de registros",
     },
     none: "Aún no hay alertas.",
     batch: "Lote",

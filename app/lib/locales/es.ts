@@ -4,6 +4,8 @@ import { alertsEs } from "./es-alerts";
 import { recordsEs } from "./es-records";
 import { recordsViewEs } from "./es-records-view";
 import { shareEs } from "./es-share";
+import { curvesEs } from "./es-curves";
+import { weeklyEs } from "./es-weekly";
 import type { Messages } from "./en";
 
 export const es: Messages = {
@@ -13,6 +15,8 @@ export const es: Messages = {
   ...recordsEs,
   ...recordsViewEs,
   ...shareEs,
+  ...curvesEs,
+  ...weeklyEs,
   app: {
     name: "Chillwright",
     tagline: "Registros de enfriamiento que detectan un lote que va mal cuando todavía se puede salvar.",
