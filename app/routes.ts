@@ -26,6 +26,7 @@ export default [
   // Read-only share links: outside the signed-in shell; the token alone decides.
   route("shared/:token", "routes/shared-records.tsx"),
   route("shared/:token/batches/:batchId", "routes/shared-batch.tsx"),
+  route("shared/:token/print", "routes/shared-print.tsx"),
   route("shared/:token/photos/:id/:size?", "routes/shared-photo.ts"),
   route("shared/:token/export.xlsx", "routes/shared-export-xlsx.ts"),
   route("shared/:token/export.csv", "routes/shared-export-csv.ts"),

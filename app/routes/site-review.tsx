@@ -48,7 +48,7 @@ function when(ms: number, now: number, timeZone: string, lang: string) {
 
 export default function SiteReview({ loaderData }: Route.ComponentProps) {
   const { t, i18n } = useTranslation();
-  const { site, query, ignored, rows, total, counts, page, pageCount, clamped, now } = loaderData;
+  const { site, query, ignored, rows, total, counts, page, clamped, now } = loaderData;
   const lang = i18n.language;
 
   const columns = useMemo(

@@ -1,9 +1,9 @@
 // Share links: a read-only window on one site's records for a range of dates, for an inspector or
 // an auditor. The token (256 random bits) is shown once; only its SHA-256 is stored. Every request
 // made with a link is logged in share_link_uses (append-only), allowed or not.
-import { and, asc, count, desc, eq, gte, inArray, isNull, lt, max, sql } from "drizzle-orm";
+import { and, count, desc, eq, gte, inArray, isNull, lt, max } from "drizzle-orm";
 import { data } from "react-router";
-import { batches, organisations, photos, products, readings, shareLinks, shareLinkUses, sites, users } from "~db/schema";
+import { batches, organisations, photos, readings, shareLinks, shareLinkUses, sites, users } from "~db/schema";
 import { getI18n, LANGUAGE_COOKIE, resolveLanguage, type Language } from "~/lib/i18n";
 import { ExportRangeSchema, rangeInstants, SheetSchema, type ExportSheet } from "~/lib/records-export";
 import { withinRange } from "~/lib/share-links";
@@ -20,7 +20,7 @@ import { readCookie } from "./station.server";
 
 type Site = typeof sites.$inferSelect;
 export type ShareLink = typeof shareLinks.$inferSelect;
-export type ShareTarget = "records" | "batch" | "photo" | "export-xlsx" | "export-csv";
+export type ShareTarget = "records" | "batch" | "photo" | "export-xlsx" | "export-csv" | "print";
 type Outcome = "ok" | "expired" | "revoked" | "refused";
 
 // makeToken() gives 32 bytes as base64url: 43 characters. Anything else is not one of ours.
@@ -266,39 +266,6 @@ export async function isPhotoInShare(share: OpenShare, photoId: string) {
     .where(and(eq(photos.id, photoId), eq(photos.siteId, share.site.id), inRange(share)))
     .limit(1);
   return !!row;
-}
-
-export const SHARED_LIST_LIMIT = 500;
-
-/** The batches of the range, oldest first, for the simple records list (at most SHARED_LIST_LIMIT). */
-export async function listSharedBatches(share: OpenShare) {
-  const rows = await db
-    .select({
-      id: batches.id,
-      product: products.name,
-      lotCode: batches.lotCode,
-      startedAt: batches.startedAt,
-      state: batches.state,
-      missedAt: batches.missedAt,
-      verifiedBy: sql<string | null>`(SELECT ${users.name} FROM verifications v JOIN ${users} ON ${users.id} = v.signed_by WHERE v.batch_id = ${batches.id} ORDER BY v.signed_at DESC LIMIT 1)`,
-    })
-    .from(batches)
-    .innerJoin(products, eq(products.id, batches.productId))
-    .where(inRange(share))
-    .orderBy(asc(batches.startedAt), asc(batches.id))
-    .limit(SHARED_LIST_LIMIT + 1);
-  return {
-    truncated: rows.length > SHARED_LIST_LIMIT,
-    batches: rows.slice(0, SHARED_LIST_LIMIT).map((r) => ({
-      id: r.id,
-      product: r.product,
-      lotCode: r.lotCode,
-      startedAt: r.startedAt.getTime(),
-      // The derived columns say enough for a list; the batch page shows the rule's full record.
-      outcome: r.state === "discarded" ? "discarded" : r.missedAt ? "missed" : r.state === "cooling" ? "inProgress" : r.state === "cooled_after_reheat" ? "passedAfterReheat" : "passed",
-      verifiedBy: r.verifiedBy,
-    })),
-  };
 }
 
 /** The plain facts the shared pages' header shows. */

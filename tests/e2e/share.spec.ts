@@ -47,10 +47,10 @@ test("QA shares a period with an inspector, who reads it on a tablet with no acc
   await expect(inspector.getByTestId("share-header")).toContainText(k.t.site.name);
   await expect(inspector.getByTestId("share-header")).toContainText(`Records from ${k.range.from} to ${k.range.to}`);
   await expect(inspector.getByTestId("caution")).toContainText("The probe reading is the record");
-  const rows = inspector.getByTestId("shared-batch-row");
+  const rows = inspector.getByTestId("record-row");
   await expect(rows).toHaveCount(1);
   await expect(rows.first()).toContainText(k.batch.lot);
-  await expect(rows.first()).toContainText("passed");
+  await expect(rows.first()).toContainText("Cooled in time");
   await expect(inspector.getByText(k.old.lot)).toHaveCount(0);
   await inspector.screenshot({ path: `${SCREENS}/share-records.png`, fullPage: true });
   // On paper: no buttons or downloads, the header and the list.
@@ -59,6 +59,11 @@ test("QA shares a period with an inspector, who reads it on a tablet with no acc
   await expect(inspector.getByRole("heading", { name: "Downloads" })).toBeHidden();
   await inspector.screenshot({ path: `${SCREENS}/share-records-print.png`, fullPage: true });
   await inspector.emulateMedia({ media: "screen" });
+  // The paper log of the shared dates.
+  await inspector.getByTestId("shared-print-link").click();
+  await expect(inspector.getByTestId("print-row")).toHaveCount(1);
+  await inspector.screenshot({ path: `${SCREENS}/share-print-log.png`, fullPage: true });
+  await inspector.goBack();
 
   await rows.first().getByRole("link", { name: k.t.product.name }).click();
   await expect(inspector).toHaveURL(new RegExp(`/batches/${k.batch.id}$`));

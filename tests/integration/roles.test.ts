@@ -73,7 +73,7 @@ describe("role × route matrix", () => {
   }
 
   // Shared pages are outside the signed-in shell: a session neither opens them nor sends anyone to sign in.
-  for (const path of ["/shared/:token", "/shared/:token/batches/:walkIn", "/shared/:token/photos/:walkIn", "/shared/:token/export.xlsx", "/shared/:token/export.csv"]) {
+  for (const path of ["/shared/:token", "/shared/:token/print", "/shared/:token/batches/:walkIn", "/shared/:token/photos/:walkIn", "/shared/:token/export.xlsx", "/shared/:token/export.csv"]) {
     it(`GET ${path} with a token that names no link answers every role 404`, async () => {
       const target = path.replace(":token", "x".repeat(43)).replace(":walkIn", tenant.walkIn.id);
       for (const who of ["anonymous", "cook", "manager", "qa", "admin"] as const) expect((await clients[who].get(target)).status, who).toBe(404);

@@ -183,6 +183,25 @@ describe("share links", () => {
       expect(audit).toMatchObject({ actorKind: "share_link", actorUserId: null, actorLabel: label });
     });
 
+    it("the records view and the print view stay inside the link's dates: a wider range is left out with a note", async () => {
+      const before = new Date(Date.parse(`${k.range.from}T12:00:00Z`) - 30 * 86_400_000).toISOString().slice(0, 10);
+      const wide = await (await stranger.get(`/shared/${token}?from=${before}&to=${k.range.to}`)).text();
+      expect(wide).toContain("Some of the address could not be used and was left out: the dates.");
+      expect(wide).not.toContain(k.old.lot);
+      expect(wide).toContain(k.batch.lot);
+      // No filter by person: the staff list is not the inspector's.
+      expect(wide).not.toContain('name="cook"');
+      const print = await stranger.get(`/shared/${token}/print?from=${before}&to=${k.range.to}`);
+      expect(print.status).toBe(200);
+      expect(print.headers.get("cache-control")).toBe("no-store");
+      const paper = await print.text();
+      expect(paper).toContain(k.batch.lot);
+      expect(paper).not.toContain(k.old.lot);
+      expect(paper).toContain("The probe reading is the record");
+      const uses = await usesOf(token);
+      expect(uses.some((u) => u.target === "print" && u.outcome === "ok")).toBe(true);
+    });
+
     it("refuses a requested range that reaches outside the link's (400, with a message)", async () => {
       const before = new Date(Date.parse(`${k.range.from}T12:00:00Z`) - 3 * 86_400_000).toISOString().slice(0, 10);
       const res = await stranger.get(`/shared/${token}/export.xlsx?from=${before}&to=${k.range.to}`);
@@ -206,7 +225,7 @@ describe("share links", () => {
   describe("writing through it", () => {
     it("answers every POST, PUT and DELETE on every shared route with 405 and changes nothing", async () => {
       const before = await recordCounts(k.t.site.id);
-      const paths = ["", `/batches/${k.batch.id}`, `/photos/${k.batch.photoId}`, `/photos/${k.batch.photoId}/thumb`, "/export.xlsx", "/export.csv?sheet=readings"];
+      const paths = ["", "/print", `/batches/${k.batch.id}`, `/photos/${k.batch.photoId}`, `/photos/${k.batch.photoId}/thumb`, "/export.xlsx", "/export.csv?sheet=readings"];
       const usesBefore = (await usesOf(token)).length;
       for (const path of paths) {
         for (const method of ["POST", "PUT", "DELETE"]) {
@@ -286,7 +305,7 @@ describe("share links", () => {
       expect(html).not.toContain(k.t.product.name);
       expect(html).not.toContain(k.batch.lot);
       expect(html).not.toContain(k.t.site.name);
-      for (const path of [`/batches/${k.batch.id}`, `/photos/${k.batch.photoId}`, "/export.xlsx", "/export.csv?sheet=readings"]) {
+      for (const path of ["/print", `/batches/${k.batch.id}`, `/photos/${k.batch.photoId}`, "/export.xlsx", "/export.csv?sheet=readings"]) {
         const res = await stranger.get(`/shared/${own.token}${path}`);
         expect(res.status, path).toBe(410);
         const body = await res.text();
@@ -294,7 +313,7 @@ describe("share links", () => {
         expect(body, path).not.toContain(k.batch.lot);
       }
       const uses = await usesOf(own.token!);
-      expect(uses.slice(1).map((u) => [u.outcome, u.status])).toEqual(Array(5).fill(["expired", 410]));
+      expect(uses.slice(1).map((u) => [u.outcome, u.status])).toEqual(Array(6).fill(["expired", 410]));
     });
 
     it("a revoked link answers 410 and says it was withdrawn; only QA or a manager of the site may revoke, with an audit event", async () => {
@@ -323,13 +342,13 @@ describe("share links", () => {
       expect(html).toContain("This link was withdrawn");
       expect(html).not.toContain(k.t.product.name);
       expect(html).not.toContain(k.batch.lot);
-      for (const path of [`/batches/${k.batch.id}`, `/photos/${k.batch.photoId}/thumb`, "/export.xlsx"]) {
+      for (const path of ["/print", `/batches/${k.batch.id}`, `/photos/${k.batch.photoId}/thumb`, "/export.xlsx"]) {
         const r = await stranger.get(`/shared/${own.token}${path}`);
         expect(r.status, path).toBe(410);
         expect(await r.text(), path).not.toContain(k.batch.lot);
       }
       const uses = await usesOf(own.token!);
-      expect(uses.map((u) => u.outcome)).toEqual(["ok", "revoked", "revoked", "revoked", "revoked"]);
+      expect(uses.map((u) => u.outcome)).toEqual(["ok", "revoked", "revoked", "revoked", "revoked", "revoked"]);
       const listed = await (await qa.get(`/sites/${k.t.site.id}/sharing`)).text();
       expect(listed).toMatch(/To withdraw[\s\S]*?withdrawn/);
     });
