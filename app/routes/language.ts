@@ -11,7 +11,7 @@ import type { Route } from "./+types/language";
 const LanguageSchema = z.object({
   lang: z.enum(languages),
   // Only paths on this site: never an open redirect.
-  back: z.string().regex(/^\/(?![\/\\])[^\x00-\x1f]*$/).catch("/"),
+  back: z.string().regex(/^\/(?![\/\\])[\x20-\x7e]*$/).catch("/"),
 });
 
 // The quick switch: remembered on this device, and saved as the signed-in user's setting.

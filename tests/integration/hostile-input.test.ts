@@ -95,7 +95,7 @@ async function snapshot(t: Tenant) {
        (select md5(string_agg(concat_ws(',', u.id, u.name, u.email, u.password_hash, u.pin_hash, u.language, u.active, u.session_version), '|' order by u.id)) from users u where u.organisation_id = $1) as users,
        (select md5(string_agg(m::text, '|' order by m.id)) from memberships m join sites s on s.id = m.site_id where s.organisation_id = $1) as memberships,
        (select md5(string_agg(p::text, '|' order by p.id)) from products p where p.site_id = $2) as products,
-       (select md5(string_agg(concat_ws(',', e.id, e.name, e.method, e.retired_at), '|' order by e.id)) from equipment e where e.site_id = $2) as equipment,
+       (select md5(string_agg(concat_ws(',', e.id, e.name, e.method, e.active), '|' order by e.id)) from equipment e where e.site_id = $2) as equipment,
        (select md5(string_agg(concat_ws(',', b.id, b.state, b.lot_code, b.method, b.fill_depth_mm, b.pan_size, b.lid, b.equipment_id, b.ended_at), '|' order by b.id)) from batches b where b.site_id = $2) as batches,
        (select md5(string_agg(r::text, '|' order by r.id)) from alert_recipients r where r.site_id = $2) as recipients`,
     [t.org.id, t.site.id],
@@ -108,7 +108,9 @@ async function judge(t: Tenant, label: string, before: Awaited<ReturnType<typeof
   const body = await res.text();
   expect(res.status, `${label} → ${res.status}: ${body.slice(0, 300)}`).toBeLessThan(500);
   if (res.status >= 400) {
-    expect(body.trim().length, `${label}: a ${res.status} must say why`).toBeGreaterThan(0);
+    // 431: Node's own HTTP parser refuses a request line or headers over 16 KB before any app code
+    // runs; the status is the whole message.
+    if (res.status !== 431) expect(body.trim().length, `${label}: a ${res.status} must say why`).toBeGreaterThan(0);
     const type = res.headers.get("content-type") ?? "";
     if (type.includes("json")) {
       const json = JSON.parse(body);
@@ -209,6 +211,19 @@ function formsOf(html: string, pagePath: string): FormSpec[] {
   return out;
 }
 
+/**
+ * A keep-alive socket the server closes just as the client reuses it fails before any request is
+ * read (ECONNRESET, no answer): the request never reached the app, so it is sent again once.
+ */
+async function sendOnce(send: () => Promise<Response>) {
+  try {
+    return await send();
+  } catch (e) {
+    if ((e as { cause?: { code?: string } }).cause?.code !== "ECONNRESET") throw e;
+    return send();
+  }
+}
+
 const formValue = fc.oneof(hostileText, fc.integer().map(String), fc.double().map(String), fc.constant(""));
 
 async function fuzzPageForms(t: Tenant, client: Client, pagePath: string, skip: RegExp = /^$/) {
@@ -231,7 +246,7 @@ async function fuzzPageForms(t: Tenant, client: Client, pagePath: string, skip: 
           replace.forEach((k) => (body[k] = values[names.indexOf(k)]));
           for (const [k, v] of Object.entries(extra)) if (!(k in body)) body[k] = v;
           const before = await snapshot(t);
-          const res = await client.request(form.action, { form: body });
+          const res = await sendOnce(() => client.request(form.action, { form: body }));
           await judge(t, `POST ${form.action} intent=${intent ?? "-"} ${JSON.stringify(body).slice(0, 200)}`, before, res);
         },
       ),
@@ -256,7 +271,6 @@ describe("hostile input in forms", () => {
     ["sites", "admin", () => "/sites"],
     ["forgot password", "anonymous", () => "/forgot-password"],
     ["station", "station", () => "/station"],
-    ["station batch", "station", (_t, b) => `/station/batches/${b}`],
     ["station new batch", "station", () => "/station/batches/new"],
   ];
   for (const [name, who, path] of pages) {
@@ -270,9 +284,32 @@ describe("hostile input in forms", () => {
         expect((await manager.post(`/sites/${t.site.id}/station-setup`, { intent: "create", name: "Fuzz tablet" })).status).toBeLessThan(400);
         client = new Client();
         client.cookies.set("cw_station", manager.cookies.get("cw_station")!);
+        // The cook signs in on the tablet with their PIN, as before any entry.
+        expect((await client.post("/station", { intent: "pin", userId: t.people.cook.id, pin: t.people.cook.pin })).status).toBe(302);
       } else client = who === "manager" ? manager : await signedIn(t.people.admin.email, t.people.admin.password);
       await afterSweep(t);
       await fuzzPageForms(t, client, path(t, batch.id));
     });
   }
+});
+
+describe("hostile input from a station tablet", () => {
+  it("the outbox's reading endpoint refuses hostile bodies with a 4xx and writes nothing", async () => {
+    const t = await newTenant();
+    const batch = await coolingBatch(t, { lotCode: "TAB-1", startedMinutesAgo: 12 });
+    const manager = await signedIn(t.people.manager.email, t.people.manager.password);
+    expect((await manager.post(`/sites/${t.site.id}/station-setup`, { intent: "create", name: "Fuzz tablet" })).status).toBeLessThan(400);
+    const tablet = new Client();
+    tablet.cookies.set("cw_station", manager.cookies.get("cw_station")!);
+    await afterSweep(t);
+    const base = { clientId: randomUUID(), value: 120, unit: "F", takenAt: new Date(Date.now() - 60_000).toISOString(), enteredAt: new Date().toISOString() };
+    await fc.assert(
+      fc.asyncProperty(fc.oneof({ weight: 4, arbitrary: mutated(base) }, { weight: 1, arbitrary: rawBodies }), async (body) => {
+        const before = await snapshot(t);
+        const res = await tablet.request(`/station/batches/${batch.id}/readings`, { method: "POST", headers: { "content-type": "application/json" }, body });
+        await judge(t, `POST /station/batches/:id/readings ${body.slice(0, 120)}`, before, res);
+      }),
+      { numRuns: RUNS },
+    );
+  });
 });
