@@ -33,6 +33,7 @@ export default [
       route("station-setup", "routes/station-setup.tsx"),
       route("api-tokens", "routes/site-api-tokens.tsx"),
       route("review", "routes/site-review.tsx"),
+      route("analytics", "routes/site-analytics.tsx"),
       route("batches/:batchId", "routes/site-batch.tsx"),
       route("equipment/:equipmentId", "routes/site-equipment.tsx"),
       route("alerts", "routes/site-alerts.tsx"),

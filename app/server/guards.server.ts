@@ -16,13 +16,16 @@ export type SessionUser = {
 };
 
 // Who can do what, in one place. Admins hold every right at their sites.
-export const can: Record<"manageTeam" | "manageSite" | "setUpStation" | "manageOrganisation" | "viewSite" | "review" | "verify" | "manageAlerts" | "exportRecords", readonly Role[]> = {
+export const can: Record<"manageTeam" | "manageSite" | "setUpStation" | "manageOrganisation" | "viewSite" | "review" | "verify" | "manageAlerts" | "exportRecords" | "analytics" | "compareSites", readonly Role[]> = {
   manageTeam: ["manager", "admin"],
   // The review queue and batch records: QA reads them, managers act on them.
   review: ["manager", "qa", "admin"],
   verify: ["manager", "admin"],
   // The spreadsheet of a period's records: QA's job, and the managers'.
   exportRecords: ["manager", "qa", "admin"],
+  // Pass rates and stage-1 times of a period; QA and admins also compare the sites where they hold that role.
+  analytics: ["manager", "qa", "admin"],
+  compareSites: ["qa", "admin"],
   manageAlerts: ["manager", "admin"],
   manageSite: ["manager", "admin"],
   setUpStation: ["manager", "admin"],

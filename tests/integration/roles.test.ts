@@ -14,6 +14,9 @@ const pages: [string, Expect][] = [
   ["/sites/:site/station-setup", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites/:site/api-tokens", { anonymous: 302, cook: 403, manager: 200, qa: 403, admin: 200 }],
   ["/sites/:site/review", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
+  ["/sites/:site/analytics", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
+  // Comparing sites is QA's and the administrators' (a manager is refused, not shown another view).
+  ["/sites/:site/analytics?scope=all", { anonymous: 302, cook: 403, manager: 403, qa: 200, admin: 200 }],
   ["/sites/:site/equipment/:walkIn", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites/:site/export.xlsx", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites/:site/export.csv?sheet=readings", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
@@ -73,8 +76,8 @@ describe("role × route matrix", () => {
       return [...menu.matchAll(/<a [^>]*>([^<]+)<\/a>/g)].map((m) => m[1]);
     };
     expect(await nav("cook")).toEqual(["Today", "My account"]);
-    expect(await nav("qa")).toEqual(["Today", "Review", "My account"]);
-    expect(await nav("manager")).toEqual(["Today", "Review", "Alerts", "Team", "Library", "Site settings", "Set up station", "My account"]);
-    expect(await nav("admin")).toEqual(["Today", "Review", "Alerts", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"]);
+    expect(await nav("qa")).toEqual(["Today", "Review", "Analytics", "My account"]);
+    expect(await nav("manager")).toEqual(["Today", "Review", "Analytics", "Alerts", "Team", "Library", "Site settings", "Set up station", "My account"]);
+    expect(await nav("admin")).toEqual(["Today", "Review", "Analytics", "Alerts", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"]);
   });
 });

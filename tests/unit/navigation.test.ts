@@ -3,15 +3,15 @@ import { navigationFor } from "~/lib/navigation";
 
 describe("navigation by role", () => {
   const keys = (role: Parameters<typeof navigationFor>[0]) => navigationFor(role, "s1").map((i) => i.key);
-  it("cooks see their site and their account; QA also the review queue", () => {
+  it("cooks see their site and their account; QA also the review queue and the analytics", () => {
     expect(keys("cook")).toEqual(["home", "account"]);
-    expect(keys("qa")).toEqual(["home", "review", "account"]);
+    expect(keys("qa")).toEqual(["home", "review", "analytics", "account"]);
   });
   it("managers also review, get alerts, and run the team, the library, the settings and the stations", () => {
-    expect(keys("manager")).toEqual(["home", "review", "alerts", "team", "library", "settings", "station", "account"]);
+    expect(keys("manager")).toEqual(["home", "review", "analytics", "alerts", "team", "library", "settings", "station", "account"]);
   });
   it("administrators also manage the organisation's sites", () => {
-    expect(keys("admin")).toEqual(["home", "review", "alerts", "team", "library", "settings", "station", "sites", "account"]);
+    expect(keys("admin")).toEqual(["home", "review", "analytics", "alerts", "team", "library", "settings", "station", "sites", "account"]);
   });
   it("someone with no site sees only their account", () => {
     expect(navigationFor(null, null).map((i) => i.key)).toEqual(["account"]);

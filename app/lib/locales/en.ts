@@ -2,11 +2,13 @@ import { reviewEn } from "./en-review";
 import { verifyEn } from "./en-verify";
 import { alertsEn } from "./en-alerts";
 import { recordsEn } from "./en-records";
+import { analyticsEn } from "./en-analytics";
 export const en = {
   ...reviewEn,
   ...verifyEn,
   ...alertsEn,
   ...recordsEn,
+  ...analyticsEn,
   app: {
     name: "Chillwright",
     tagline: "Cooling records that catch a failing batch while it can still be saved.",
@@ -18,6 +20,7 @@ export const en = {
   },
   nav: {
     review: "Review",
+    analytics: "Analytics",
     alerts: "Alerts",
     home: "Today",
     team: "Team",

@@ -2,6 +2,7 @@ import { reviewEs } from "./es-review";
 import { verifyEs } from "./es-verify";
 import { alertsEs } from "./es-alerts";
 import { recordsEs } from "./es-records";
+import { analyticsEs } from "./es-analytics";
 import type { Messages } from "./en";
 
 export const es: Messages = {
@@ -9,6 +10,7 @@ export const es: Messages = {
   ...verifyEs,
   ...alertsEs,
   ...recordsEs,
+  ...analyticsEs,
   app: {
     name: "Chillwright",
     tagline: "Registros de enfriamiento que detectan un lote que va mal cuando todavía se puede salvar.",
@@ -20,6 +22,7 @@ export const es: Messages = {
   },
   nav: {
     review: "Revisión",
+    analytics: "Análisis",
     alerts: "Alertas",
     home: "Hoy",
     team: "Equipo",
