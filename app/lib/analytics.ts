@@ -8,6 +8,12 @@ const DAY_MS = 86_400_000;
 /** Groups with fewer ended batches than this are shown but marked as too few to judge. */
 export const MIN_GROUP = 5;
 
+/** The most ended batches a period times to stage 1 (a busy site's year is about 5,000). */
+export const MAX_TIMED = 20_000;
+
+/** A group's pass rate: `key` identifies it, `name` is shown (a method's code is translated on the page). */
+export type Group = { key: string; name: string | null; ended: number; passed: number };
+
 /** The default period: the last 12 weeks (84 days), today included, in the site's time zone. */
 export const DEFAULT_WEEKS = 12;
 
@@ -38,7 +44,10 @@ export function shiftOfHour(hour: number): ShiftCode {
 
 export const hourText = (h: number) => `${String(h).padStart(2, "0")}:00`;
 
-const isRealDate = (s: string) => /^\d{4}-\d{2}-\d{2}$/.test(s) && new Date(`${s}T00:00:00Z`).toISOString().slice(0, 10) === s;
+const isRealDate = (s: string) => {
+  const d = new Date(`${s}T00:00:00Z`);
+  return /^\d{4}-\d{2}-\d{2}$/.test(s) && !Number.isNaN(d.getTime()) && d.toISOString().slice(0, 10) === s;
+};
 
 export const ScopeSchema = z.enum(["all"]);
 export type AnalyticsParam = "from" | "to" | "scope";

@@ -2,9 +2,9 @@ import { useTranslation } from "react-i18next";
 import { Form, Link } from "react-router";
 import { NumbersTable, RateBars, StageOneHistogram, type RateRow } from "~/components/analytics-charts";
 import { Figure, Notice } from "~/components/frame";
-import { DEFAULT_WEEKS, formatMinutes, hourText, MIN_GROUP, parseAnalyticsQuery, percent, shifts } from "~/lib/analytics";
+import { DEFAULT_WEEKS, formatMinutes, hourText, MAX_TIMED, MIN_GROUP, parseAnalyticsQuery, percent, shifts, type Group } from "~/lib/analytics";
 import { getRuleSet, limitIn } from "~/lib/rule-sets";
-import { getOrganisationAnalytics, getSiteAnalytics, MAX_TIMED, type Group } from "~/server/analytics.server";
+import { getOrganisationAnalytics, getSiteAnalytics } from "~/server/analytics.server";
 import { can, forbidden, requireRole } from "~/server/guards.server";
 import type { Route } from "./+types/site-analytics";
 
@@ -127,14 +127,7 @@ function Definitions({ data }: { data: Data }) {
         <div>
           <dt className="font-extrabold">{t("analytics.definitions.shiftTerm")}</dt>
           <dd>
-            {t("analytics.definitions.shift")}{" "}
-            {shifts.map((s, i) => (
-              <span key={s.code}>
-                {i ? "; " : ""}
-                {t(`analytics.shifts.${s.code}`, { from: hourText(s.fromHour), to: hourText(s.toHour) })}
-              </span>
-            ))}
-            .
+            {`${t("analytics.definitions.shift")} ${shifts.map((s) => t(`analytics.shifts.${s.code}`, { from: hourText(s.fromHour), to: hourText(s.toHour) })).join("; ")}.`}
           </dd>
         </div>
         <div>

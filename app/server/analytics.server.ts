@@ -3,7 +3,7 @@
 // evaluation, a page of batches at a time).
 import { and, asc, eq, inArray, sql } from "drizzle-orm";
 import { batches, equipment, products, readings, sites } from "~db/schema";
-import { binMinutes, median, shifts, type Histogram, type ShiftCode } from "~/lib/analytics";
+import { binMinutes, MAX_TIMED, median, shifts, type Group, type Histogram, type ShiftCode } from "~/lib/analytics";
 import { evaluateRuleSet } from "~/lib/engine/rules";
 import { rangeInstants } from "~/lib/records-export";
 import { getRuleSet } from "~/lib/rule-sets";
@@ -14,12 +14,8 @@ import { endedBetween, passCounts } from "./pass-rate.server";
 type Site = typeof sites.$inferSelect;
 export type Period = { from: string; to: string };
 
-/** A group's pass rate: `key` identifies it, `name` is shown (a method's code is translated on the page). */
-export type Group = { key: string; name: string | null; ended: number; passed: number };
-
-/** Batches read per page when timing stage 1, and the most a period evaluates (a busy site's year is about 5,000). */
-export const PAGE_SIZE = 500;
-export const MAX_TIMED = 20_000;
+/** Batches read per page when timing stage 1. */
+const PAGE_SIZE = 500;
 
 /** The shift a batch started in, by its local hour at the site; the boundaries come from app/lib/analytics.ts. */
 const shiftOf = (timeZone: string) => {
