@@ -6,8 +6,11 @@ import { formatMinutes, MIN_GROUP, percent, type Histogram } from "~/lib/analyti
 import { CHART_COLOURS as K } from "~/lib/chart-data";
 
 const FONT = 15;
-// A rough advance per character at 15 px, for laying out labels without measuring text.
+// The bars' names and counts a size up: the chart is scaled down to fit a tablet held upright.
+const BAR_FONT = 16;
+// A rough advance per character at 15 px (bold, 16 px: 9.2), for laying out labels without measuring text.
 const CHAR_W = 8.4;
+const BAR_CHAR_W = 9.2;
 const FAMILY = "'Nunito Sans', ui-sans-serif, system-ui, sans-serif";
 
 export type RateRow = { key: string; label: string; ended: number; passed: number };
@@ -43,7 +46,7 @@ export function RateBars({ title, rows, testId }: { title: string; rows: readonl
   const tooFewTag = ` · ${t("analytics.tooFew")}`;
   return (
     <figure className="grid gap-3" data-testid={testId}>
-      <svg role="img" aria-labelledby={`${id}-t ${id}-d`} viewBox={`0 0 ${width} ${height}`} width="100%" className="block h-auto w-full max-w-3xl" fontFamily={FAMILY} fontSize={FONT}>
+      <svg role="img" aria-labelledby={`${id}-t ${id}-d`} viewBox={`0 0 ${width} ${height}`} width="100%" className="block h-auto w-full max-w-3xl" fontFamily={FAMILY} fontSize={BAR_FONT}>
         <title id={`${id}-t`}>{title}</title>
         <desc id={`${id}-d`}>{summary}</desc>
         <defs>
@@ -57,10 +60,11 @@ export function RateBars({ title, rows, testId }: { title: string; rows: readonl
         {rows.map((r, i) => {
           const top = i * rowH + 6;
           const tag = few(r) ? tooFewTag : "";
-          const label = clip(r.label, Math.floor(width / CHAR_W) - tag.length - 1);
+          const label = clip(r.label, Math.floor(width / BAR_CHAR_W) - tag.length - 1);
           return (
             <g key={r.key} data-row={r.key}>
-              <text x={0} y={top + 16} fill={K.ink} fontWeight={700}>
+              {/* A white halo keeps the name readable over the grid lines. */}
+              <text x={0} y={top + 16} fill={K.ink} fontWeight={700} stroke="#ffffff" strokeWidth={5} paintOrder="stroke" strokeLinejoin="round">
                 <title>{r.label}</title>
                 {label}
                 {tag ? (
@@ -184,7 +188,8 @@ export function StageOneHistogram({ histogram, title, testId }: { histogram: His
         <line x1={x0} x2={x1} y1={y1} y2={y1} stroke={K.inkSoft} strokeWidth={1.5} />
         <g data-layer="time-axis" fill={K.inkSoft} fontSize={14} textAnchor="middle">
           {bins.map((b, i) =>
-            i % 4 === 0 ? (
+            // Every fourth boundary; the last bin's own label ("> 4 h") stands in for its left edge.
+            i % 4 === 0 && i < bins.length - 1 ? (
               <text key={i} x={x0 + i * step} y={y1 + 20}>
                 {formatMinutes(b.fromMin)}
               </text>
