@@ -77,7 +77,21 @@ async function stageOneTimes(site: Site, fromMs: number, toMs: number, now: numb
       .orderBy(asc(batches.endedAt), asc(batches.id))
       .limit(Math.min(PAGE_SIZE, MAX_TIMED - timed));
     if (page.length === 0) break;
-    const rows = await db.select().from(readings).where(inArray(readings.batchId, page.map((b) => b.id)));
+    // Only the columns the rule and the corrections need: whole rows cost three times as much to read.
+    const rows = await db
+      .select({
+        id: readings.id,
+        batchId: readings.batchId,
+        kind: readings.kind,
+        valueEntered: readings.valueEntered,
+        unitEntered: readings.unitEntered,
+        valueC: readings.valueC,
+        takenAt: readings.takenAt,
+        receivedAt: readings.receivedAt,
+        correctsReadingId: readings.correctsReadingId,
+      })
+      .from(readings)
+      .where(inArray(readings.batchId, page.map((b) => b.id)));
     const byBatch = new Map<string, (typeof rows)[number][]>();
     for (const r of rows) {
       const list = byBatch.get(r.batchId);
