@@ -17,8 +17,10 @@ export type Group = { key: string; name: string | null; ended: number; passed: n
 /** The default period: the last 12 weeks (84 days), today included, in the site's time zone. */
 export const DEFAULT_WEEKS = 12;
 
-export function defaultPeriod(timeZone: string, now = Date.now()) {
-  const to = localDateOf(now, timeZone);
+/** With several zones (the organisation view), "today" is the latest of their dates, so no site's today is cut off. */
+export function defaultPeriod(timeZone: string | readonly string[], now = Date.now()) {
+  const zones = typeof timeZone === "string" ? [timeZone] : timeZone;
+  const to = zones.map((z) => localDateOf(now, z)).reduce((a, b) => (b > a ? b : a));
   const from = new Date(Date.parse(`${to}T00:00:00Z`) - (DEFAULT_WEEKS * 7 - 1) * DAY_MS).toISOString().slice(0, 10);
   return { from, to };
 }
@@ -85,7 +87,9 @@ export function parseAnalyticsQuery(params: URLSearchParams, timeZone: string, n
     else ignored.push("scope");
   }
   const query: AnalyticsQuery = { ...period, scope };
-  return { query, ignored, problem };
+  // The default stood in for the period: nothing asked, or nothing usable.
+  const defaulted = given.length === 0 || problem !== null;
+  return { query, ignored, problem, defaulted };
 }
 
 /** A histogram of minutes to the first stage limit: bins of limit/8 holding (from, to], up to twice the limit, then one bin for longer. */

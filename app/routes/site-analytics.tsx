@@ -2,9 +2,9 @@ import { useTranslation } from "react-i18next";
 import { Form, Link } from "react-router";
 import { NumbersTable, RateBars, StageOneHistogram, type RateRow } from "~/components/analytics-charts";
 import { Figure, Notice } from "~/components/frame";
-import { DEFAULT_WEEKS, formatMinutes, hourText, MAX_TIMED, MIN_GROUP, parseAnalyticsQuery, percent, shifts, type Group } from "~/lib/analytics";
+import { DEFAULT_WEEKS, defaultPeriod, formatMinutes, hourText, MAX_TIMED, MIN_GROUP, parseAnalyticsQuery, percent, shifts, type Group } from "~/lib/analytics";
 import { getRuleSet, limitIn } from "~/lib/rule-sets";
-import { getOrganisationAnalytics, getSiteAnalytics } from "~/server/analytics.server";
+import { comparedSites, getOrganisationAnalytics, getSiteAnalytics } from "~/server/analytics.server";
 import { can, forbidden, requireRole } from "~/server/guards.server";
 import type { Route } from "./+types/site-analytics";
 
@@ -12,21 +12,27 @@ export const meta: Route.MetaFunction = () => [{ title: "Analytics · Chillwrigh
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, site, role } = await requireRole(request, can.analytics, params.siteId);
-  const { query, ignored, problem } = parseAnalyticsQuery(new URL(request.url).searchParams, site.timeZone);
+  const parsed = parseAnalyticsQuery(new URL(request.url).searchParams, site.timeZone);
+  const { ignored, problem } = parsed;
+  let query = parsed.query;
+  if (query.scope === "all" && !can.compareSites.includes(role)) forbidden();
   const rule = getRuleSet(site.ruleSetCode);
   const stageOne = rule?.stages[0];
+  const compared = query.scope === "all" ? await comparedSites(user, can.compareSites) : [];
+  // Each site on its own clock: by default the period runs to the latest "today" among them.
+  if (compared.length && parsed.defaulted) query = { ...query, ...defaultPeriod(compared.map((s) => s.timeZone)) };
   const common = {
     site: { id: site.id, name: site.name, timeZone: site.timeZone },
     query,
     ignored,
     problem,
+    defaulted: parsed.defaulted,
     // The organisation view is offered to QA and admins who hold that role at more than one site.
     canCompare: can.compareSites.includes(role) && user.memberships.filter((m) => can.compareSites.includes(m.role)).length > 1,
     limit: stageOne ? { value: limitIn(stageOne.to, site.temperatureUnit), unit: site.temperatureUnit, minutes: stageOne.withinMinutes } : null,
   };
   if (query.scope === "all") {
-    if (!can.compareSites.includes(role)) forbidden();
-    return { ...common, view: "organisation" as const, sites: await getOrganisationAnalytics(user, can.compareSites, query), analytics: null };
+    return { ...common, view: "organisation" as const, sites: await getOrganisationAnalytics(compared, query), analytics: null };
   }
   return { ...common, view: "site" as const, sites: null, analytics: await getSiteAnalytics(site, query) };
 }
@@ -35,9 +41,10 @@ type Data = Route.ComponentProps["loaderData"];
 
 export default function SiteAnalytics({ loaderData }: Route.ComponentProps) {
   const { t } = useTranslation();
-  const { site, query, ignored, problem, canCompare, view } = loaderData;
+  const { site, query, ignored, problem, canCompare, view, defaulted } = loaderData;
   const here = `/sites/${site.id}/analytics`;
-  const periodParams = `from=${query.from}&to=${query.to}`;
+  // A period the person chose goes along between the views; the default is worked out afresh in each.
+  const periodParams = defaulted ? "" : `from=${query.from}&to=${query.to}`;
   return (
     <div className="grid gap-6">
       <div>
@@ -84,11 +91,11 @@ export default function SiteAnalytics({ loaderData }: Route.ComponentProps) {
         {canCompare || view === "organisation" ? (
           <p>
             {view === "organisation" ? (
-              <Link to={`${here}?${periodParams}`} className="font-bold text-glacier-dark underline underline-offset-4">
+              <Link to={periodParams ? `${here}?${periodParams}` : here} className="font-bold text-glacier-dark underline underline-offset-4">
                 {t("analytics.backToSite", { site: site.name })}
               </Link>
             ) : (
-              <Link to={`${here}?scope=all&${periodParams}`} className="font-bold text-glacier-dark underline underline-offset-4">
+              <Link to={`${here}?scope=all${periodParams ? `&${periodParams}` : ""}`} className="font-bold text-glacier-dark underline underline-offset-4">
                 {t("analytics.compareSites")}
               </Link>
             )}

@@ -174,18 +174,19 @@ export async function getSiteAnalytics(site: Site, period: Period, now = Date.no
   return { ...rates, stageOne: { ...stageOne, capped: rates.overall.ended > stageOne.timed } };
 }
 
-/**
- * The organisation view: each site where the user holds one of `roles`, within their own organisation,
- * with its overall pass rate and stage-1 times for the same dates (each in its own time zone).
- */
-export async function getOrganisationAnalytics(user: { organisationId: string; memberships: { siteId: string; role: string }[] }, roles: readonly string[], period: Period, now = Date.now()) {
+/** The sites where the user holds one of `roles`, within their own organisation only, by name. */
+export async function comparedSites(user: { organisationId: string; memberships: { siteId: string; role: string }[] }, roles: readonly string[]) {
   const ids = user.memberships.filter((m) => roles.includes(m.role)).map((m) => m.siteId);
   if (!ids.length) return [];
-  const visible = await db
+  return db
     .select()
     .from(sites)
     .where(and(inArray(sites.id, ids), eq(sites.organisationId, user.organisationId)))
     .orderBy(asc(sites.name));
+}
+
+/** The organisation view: each site's overall pass rate and stage-1 times for the same dates, each on its own clock. */
+export async function getOrganisationAnalytics(visible: Site[], period: Period, now = Date.now()) {
   return Promise.all(
     visible.map(async (site) => {
       const { fromMs, toMs } = rangeInstants(period, site.timeZone);
@@ -193,7 +194,13 @@ export async function getOrganisationAnalytics(user: { organisationId: string; m
         db.select(passCounts()).from(batches).where(and(eq(batches.siteId, site.id), endedBetween(new Date(fromMs), new Date(toMs)))),
         stageOneTimes(site, fromMs, toMs, now),
       ]);
-      return { id: site.id, name: site.name, timeZone: site.timeZone, overall, stageOne: { reached: stageOne.reached, withinLimit: stageOne.withinLimit, neverReached: stageOne.neverReached, medianMinutes: stageOne.medianMinutes, limitMinutes: stageOne.histogram.limitMinutes, capped: overall.ended > stageOne.timed } };
+      return {
+        id: site.id,
+        name: site.name,
+        timeZone: site.timeZone,
+        overall,
+        stageOne: { reached: stageOne.reached, withinLimit: stageOne.withinLimit, neverReached: stageOne.neverReached, medianMinutes: stageOne.medianMinutes, limitMinutes: stageOne.histogram.limitMinutes, capped: overall.ended > stageOne.timed },
+      };
     }),
   );
 }

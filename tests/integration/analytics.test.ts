@@ -1,6 +1,8 @@
-import { sql } from "drizzle-orm";
+import { randomUUID } from "node:crypto";
+import { and, eq, sql } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { addMembership, createEquipment, createProduct, createSite } from "~db/factories";
+import { readings } from "~db/schema";
 import { addReading, coolingBatch, endedBatch, minutesAgo } from "../helpers/batches";
 import { signedIn, type Client } from "../helpers/client";
 import { db, newTenant } from "../helpers/db";
@@ -229,6 +231,26 @@ describe("analytics", () => {
     expect(list("fail-methods").map((r) => r.key)).toEqual(byMethod.map(([k]) => k));
   });
 
+  it("times stage 1 on the corrected value when a reading was corrected, and counts a batch with no reading below the limit apart", async () => {
+    const u = await newTenant();
+    const startedAt = minutesAgo(24 * 60);
+    const at = (m: number) => new Date(startedAt.getTime() + m * MIN);
+    const b = await endedBatch(u, { state: "cooled", startedAt, endedAt: at(360) });
+    await addReading(u, b.id, 140, at(10));
+    await addReading(u, b.id, 68, at(40)); // mistyped: it was 72 °F
+    await addReading(u, b.id, 66, at(100));
+    const [typo] = await db.select().from(readings).where(and(eq(readings.batchId, b.id), eq(readings.valueEntered, 68)));
+    await db.insert(readings).values({ ...typo, id: undefined, clientId: randomUUID(), valueEntered: 72, valueC: ((72 - 32) * 5) / 9, receivedAt: at(45), correctsReadingId: typo.id, correctionReason: "Mistyped" });
+    // Started at 150 °F and never read again: the clock started, stage 1 was never reached.
+    await endedBatch(u, { state: "discarded", startedAt, endedAt: at(300) });
+    const manager = await signedIn(u.people.manager.email, u.people.manager.password);
+    const html = await page(manager, u.site.id);
+    const rows = tableRows(html, "stage-one-histogram-table");
+    // 90 min from the clock start at 140 °F to the 66 °F reading: the bin over 75 up to 90 min.
+    expect(rows.map((r) => r.cells[0]).join(",")).toBe(["0", "0", "0", "0", "0", "1", ...Array(11).fill("0")].join(","));
+    expect(text(byTestId(html, "stage-one-never", "p"))).toBe("1 ended batch never had a reading at or below 70 °F (not in the chart).");
+  });
+
   it("says in plain words how the figures are counted and that they come from the probe readings", async () => {
     const html = await page(qa, t.site.id);
     const defs = text(byTestId(html, "analytics-definitions", "dl"));
@@ -290,7 +312,7 @@ describe("analytics", () => {
 
   it("compares only the sites of the organisation where the user is QA lead or administrator", async () => {
     const u = await newTenant();
-    const second = await createSite(db, { organisationId: u.org.id, name: `Annex ${u.site.name}`, timeZone: "America/New_York", temperatureUnit: "F", ruleSetCode: "fda-3-501.14-a" });
+    const second = await createSite(db, { organisationId: u.org.id, name: `Annex ${u.site.name}`, timeZone: "Pacific/Kiritimati", temperatureUnit: "F", ruleSetCode: "fda-3-501.14-a" });
     const cookOnly = await createSite(db, { organisationId: u.org.id, name: `Bakery ${u.site.name}`, timeZone: ZONE, temperatureUnit: "F", ruleSetCode: "fda-3-501.14-a" });
     await addMembership(db, u.people.qa.id, second.id, "qa");
     await addMembership(db, u.people.qa.id, cookOnly.id, "cook");
@@ -304,8 +326,13 @@ describe("analytics", () => {
 
     const c = await signedIn(u.people.qa.email, u.people.qa.password);
     const single = await page(c, u.site.id);
-    expect(single).toContain(`href="/sites/${u.site.id}/analytics?scope=all&amp;from=`);
+    expect(single).toContain(`href="/sites/${u.site.id}/analytics?scope=all"`);
+    // A period chosen goes along to the comparison.
+    expect(await page(c, u.site.id, `?from=${addDays(today, -7)}&to=${today}`)).toContain(`href="/sites/${u.site.id}/analytics?scope=all&amp;from=${addDays(today, -7)}&amp;to=${today}"`);
     const html = await page(c, u.site.id, "?scope=all");
+    // UTC+14 is most often a day ahead of Denver: by default the comparison runs to the latest today.
+    const kiritimatiToday = new Intl.DateTimeFormat("en-CA", { timeZone: "Pacific/Kiritimati" }).format(Date.now());
+    expect(text(byTestId(html, "analytics-period", "p"))).toContain(`from ${addDays(kiritimatiToday, -83)} to ${kiritimatiToday}`);
     const rows = tableRows(html, "sites-table");
     expect(rows.map((r) => r.key)).toEqual([second.id, u.site.id]); // by name: "Annex …" before "Kitchen …"
     expect(rows[0].cells.slice(0, 2)).toEqual(["3", "33 %"]);
@@ -319,6 +346,6 @@ describe("analytics", () => {
     // A manager does not compare sites; a QA lead of one site is not offered it.
     const manager = await signedIn(u.people.manager.email, u.people.manager.password);
     expect((await manager.get(`/sites/${u.site.id}/analytics?scope=all`)).status).toBe(403);
-    expect(await page(qa, t.site.id)).not.toContain("scope=all&amp;");
+    expect(await page(qa, t.site.id)).not.toContain("scope=all");
   });
 });
