@@ -11,15 +11,18 @@ describe("analytics period and shifts", () => {
     expect(defaultPeriod(ZONE, NOW)).toEqual({ from: "2024-12-27", to: "2025-03-20" });
     // 03:00 UTC on the 20th is still the 19th in Denver.
     expect(defaultPeriod(ZONE, Date.parse("2025-03-20T03:00:00Z")).to).toBe("2025-03-19");
+    // Several zones: the latest of their todays (Kiritimati, UTC+14, is already on the 21st).
+    expect(defaultPeriod([ZONE, "Pacific/Kiritimati"], Date.parse("2025-03-20T12:00:00Z"))).toEqual({ from: "2024-12-28", to: "2025-03-21" });
   });
 
   it("keeps a usable period and sets aside, by name, what cannot be used", () => {
-    expect(parse("from=2025-01-01&to=2025-01-31")).toEqual({ query: { from: "2025-01-01", to: "2025-01-31", scope: "site" }, ignored: [], problem: null });
+    expect(parse("from=2025-01-01&to=2025-01-31")).toEqual({ query: { from: "2025-01-01", to: "2025-01-31", scope: "site" }, ignored: [], problem: null, defaulted: false });
     expect(parse("from=2025-01-01").query).toMatchObject({ from: "2025-01-01", to: "2025-03-20" });
     for (const bad of ["from=2025-13-45", "from=yesterday", "from=2025-02-30", "from=9999-99-99"]) expect(parse(bad), bad).toMatchObject({ query: { from: "2024-12-27", to: "2025-03-20" }, ignored: ["from"], problem: "date" });
     expect(parse("from=2025-03-10&to=2025-03-01")).toMatchObject({ ignored: ["from", "to"], problem: "order", query: { from: "2024-12-27" } });
     expect(parse("from=2023-01-01&to=2025-03-01")).toMatchObject({ ignored: ["from", "to"], problem: "length" });
-    expect(parse("scope=all").query.scope).toBe("all");
+    expect(parse("scope=all")).toMatchObject({ query: { scope: "all" }, defaulted: true });
+    expect(parse("from=2025-13-45&to=2025-02-01").defaulted).toBe(true);
     expect(parse("scope=world")).toMatchObject({ ignored: ["scope"], problem: null, query: { scope: "site" } });
   });
 
