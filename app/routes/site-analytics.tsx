@@ -300,13 +300,14 @@ function Organisation({ data }: { data: Data }) {
             cells: [
               s.overall.ended,
               s.overall.ended ? `${percent(s.overall.passed, s.overall.ended)} %` : "—",
-              s.overall.ended ? `${s.stageOne.withinLimit} (${percent(s.stageOne.withinLimit, s.overall.ended)} %)` : "—",
+              s.stageOne.timed ? `${s.stageOne.withinLimit} (${percent(s.stageOne.withinLimit, s.stageOne.timed)} %)` : "—",
               s.stageOne.medianMinutes === null ? "—" : formatMinutes(s.stageOne.medianMinutes),
               s.stageOne.neverReached,
             ],
           }))}
         />
         <p className="text-base text-ink-soft">{t("analytics.sitesNote", { limit: limitText })}</p>
+        {rows.some((s) => s.stageOne.capped) ? <Notice tone="warn">{t("analytics.capped", { max: MAX_TIMED.toLocaleString("en-US") })}</Notice> : null}
       </section>
     </>
   );

@@ -199,7 +199,7 @@ export async function getOrganisationAnalytics(visible: Site[], period: Period, 
         name: site.name,
         timeZone: site.timeZone,
         overall,
-        stageOne: { reached: stageOne.reached, withinLimit: stageOne.withinLimit, neverReached: stageOne.neverReached, medianMinutes: stageOne.medianMinutes, limitMinutes: stageOne.histogram.limitMinutes, capped: overall.ended > stageOne.timed },
+        stageOne: { timed: stageOne.timed, reached: stageOne.reached, withinLimit: stageOne.withinLimit, neverReached: stageOne.neverReached, medianMinutes: stageOne.medianMinutes, limitMinutes: stageOne.histogram.limitMinutes, capped: overall.ended > stageOne.timed },
       };
     }),
   );
