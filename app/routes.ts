@@ -44,6 +44,7 @@ export default [
       route("api-tokens", "routes/site-api-tokens.tsx"),
       route("review", "routes/site-review.tsx"),
       route("records", "routes/site-records.tsx"),
+      route("analytics", "routes/site-analytics.tsx"),
       route("batches/:batchId", "routes/site-batch.tsx"),
       route("equipment/:equipmentId", "routes/site-equipment.tsx"),
       route("alerts", "routes/site-alerts.tsx"),

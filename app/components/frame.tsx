@@ -65,3 +65,16 @@ export function Notice({ tone = "info", children }: { tone?: "info" | "ok" | "wa
     </div>
   );
 }
+
+/** One figure of a summary, inside a <dl>: its name, the number large, a line of detail. */
+export function Figure({ label, value, detail, testId }: { label: string; value: string; detail: string; testId: string }) {
+  return (
+    <div className="rounded-xl bg-frost p-4" data-testid={testId}>
+      <dt className="text-sm font-bold text-ink-soft">{label}</dt>
+      <dd>
+        <span className="text-3xl font-extrabold">{value}</span>
+        <span className="mt-1 block text-base text-ink-soft">{detail}</span>
+      </dd>
+    </div>
+  );
+}

@@ -1,6 +1,6 @@
 export type Role = "cook" | "manager" | "qa" | "admin";
 
-export type NavItem = { key: "home" | "review" | "records" | "alerts" | "team" | "library" | "settings" | "station" | "sites" | "account"; to: string };
+export type NavItem = { key: "home" | "review" | "records" | "analytics" | "alerts" | "team" | "library" | "settings" | "station" | "sites" | "account"; to: string };
 
 /** The shell's navigation for a role at a site: each role sees what it works with. */
 export function navigationFor(role: Role | null, siteId: string | null): NavItem[] {
@@ -9,6 +9,7 @@ export function navigationFor(role: Role | null, siteId: string | null): NavItem
     items.push({ key: "home", to: `/sites/${siteId}` });
     if (role !== "cook") items.push({ key: "review", to: `/sites/${siteId}/review` });
     if (role !== "cook") items.push({ key: "records", to: `/sites/${siteId}/records` });
+    if (role !== "cook") items.push({ key: "analytics", to: `/sites/${siteId}/analytics` });
     if (role === "manager" || role === "admin") items.push({ key: "alerts", to: `/sites/${siteId}/alerts` });
     if (role === "manager" || role === "admin") {
       items.push({ key: "team", to: `/sites/${siteId}/team` });

@@ -2,6 +2,7 @@ import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import { verdictStyle } from "~/components/batch-card";
 import { RecordsDownloads } from "~/components/records-downloads";
+import { Figure } from "~/components/frame";
 import { RuleSetCard } from "~/components/rule-set-card";
 import { slowerPercent } from "~/lib/equipment-learning";
 import { lastWeek } from "~/lib/records-export";
@@ -72,18 +73,6 @@ export default function SiteHome({ loaderData }: Route.ComponentProps) {
 }
 
 type GlanceData = NonNullable<Route.ComponentProps["loaderData"]["glance"]>;
-
-function Figure({ label, value, detail, testId }: { label: string; value: string; detail: string; testId: string }) {
-  return (
-    <div className="rounded-xl bg-frost p-4" data-testid={testId}>
-      <dt className="text-sm font-bold text-ink-soft">{label}</dt>
-      <dd>
-        <span className="text-3xl font-extrabold">{value}</span>
-        <span className="mt-1 block text-base text-ink-soft">{detail}</span>
-      </dd>
-    </div>
-  );
-}
 
 function Glance({ glance, siteId }: { glance: GlanceData; siteId: string }) {
   const { t } = useTranslation();

@@ -307,8 +307,8 @@ export async function takeCorrectiveAction(site: Site, who: Entrant, batchId: st
 }
 
 /** The readings that count: a correction stands in place of the reading it corrects. */
-export function effectiveReadings(rows: (typeof readings.$inferSelect)[]) {
-  const corrected = new Map<string, typeof readings.$inferSelect>();
+export function effectiveReadings<R extends Pick<typeof readings.$inferSelect, "id" | "receivedAt" | "correctsReadingId" | "valueEntered" | "unitEntered" | "valueC">>(rows: R[]): R[] {
+  const corrected = new Map<string, R>();
   // The latest correction of an entry wins (by when it arrived).
   for (const r of [...rows].sort((a, b) => a.receivedAt.getTime() - b.receivedAt.getTime())) if (r.correctsReadingId) corrected.set(r.correctsReadingId, r);
   // A correction replaces the value, never the time or the kind of the entry it corrects.

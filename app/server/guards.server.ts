@@ -16,7 +16,7 @@ export type SessionUser = {
 };
 
 // Who can do what, in one place. Admins hold every right at their sites.
-export const can: Record<"manageTeam" | "manageSite" | "setUpStation" | "manageOrganisation" | "viewSite" | "review" | "verify" | "manageAlerts" | "exportRecords" | "shareRecords", readonly Role[]> = {
+export const can: Record<"manageTeam" | "manageSite" | "setUpStation" | "manageOrganisation" | "viewSite" | "review" | "verify" | "manageAlerts" | "exportRecords" | "shareRecords" | "analytics" | "compareSites", readonly Role[]> = {
   manageTeam: ["manager", "admin"],
   // The review queue and batch records: QA reads them, managers act on them.
   review: ["manager", "qa", "admin"],
@@ -25,6 +25,9 @@ export const can: Record<"manageTeam" | "manageSite" | "setUpStation" | "manageO
   exportRecords: ["manager", "qa", "admin"],
   // Read-only links for inspectors and auditors: whoever may export the records may share them.
   shareRecords: ["manager", "qa", "admin"],
+  // Pass rates and stage-1 times of a period; QA and admins also compare the sites where they hold that role.
+  analytics: ["manager", "qa", "admin"],
+  compareSites: ["qa", "admin"],
   manageAlerts: ["manager", "admin"],
   manageSite: ["manager", "admin"],
   setUpStation: ["manager", "admin"],

@@ -2,6 +2,7 @@ import { and, asc, desc, eq, isNotNull, sql } from "drizzle-orm";
 import { batches, equipment, products, sites } from "~db/schema";
 import { assessTrend, TREND_RECENT } from "~/lib/equipment-learning";
 import { db } from "./db.server";
+import { endedBetween, passCounts } from "./pass-rate.server";
 import { reasonConditions } from "./review-queue.server";
 
 type Site = typeof sites.$inferSelect;
@@ -59,12 +60,9 @@ export async function getGlance(site: Site, now = new Date()) {
       .orderBy(asc(batches.startedAt))
       .limit(50),
     db
-      .select({
-        ended: sql<number>`count(*)`.mapWith(Number),
-        passed: sql<number>`count(*) filter (where ${batches.state} = 'cooled')`.mapWith(Number),
-      })
+      .select(passCounts())
       .from(batches)
-      .where(and(eq(batches.siteId, site.id), sql`${batches.state} <> 'cooling'`, sql`${batches.endedAt} >= ${weekStart}`)),
+      .where(and(eq(batches.siteId, site.id), endedBetween(weekStart))),
     db
       .select({
         atRisk: sql<number>`count(*) filter (where ${reasons.off_track} or ${reasons.at_risk})`.mapWith(Number),

@@ -2,9 +2,9 @@ import { demo, expect, SCREENS, signIn, test } from "./fixtures";
 
 const navEn = {
   cook: ["Today", "My account"],
-  qa: ["Today", "Review", "Records", "My account"],
-  manager: ["Today", "Review", "Records", "Alerts", "Team", "Library", "Site settings", "Set up station", "My account"],
-  admin: ["Today", "Review", "Records", "Alerts", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"],
+  qa: ["Today", "Review", "Records", "Analytics", "My account"],
+  manager: ["Today", "Review", "Records", "Analytics", "Alerts", "Team", "Library", "Site settings", "Set up station", "My account"],
+  admin: ["Today", "Review", "Records", "Analytics", "Alerts", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"],
 };
 
 for (const role of ["cook", "manager", "qa", "admin"] as const) {

@@ -17,6 +17,9 @@ const pages: [string, Expect][] = [
   ["/sites/:site/records", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites/:site/records/print", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/records", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
+  ["/sites/:site/analytics", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
+  // Comparing sites is QA's and the administrators' (a manager is refused, not shown another view).
+  ["/sites/:site/analytics?scope=all", { anonymous: 302, cook: 403, manager: 403, qa: 200, admin: 200 }],
   ["/sites/:site/equipment/:walkIn", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites/:site/export.xlsx", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
   ["/sites/:site/export.csv?sheet=readings", { anonymous: 302, cook: 403, manager: 200, qa: 200, admin: 200 }],
@@ -87,8 +90,8 @@ describe("role × route matrix", () => {
       return [...menu.matchAll(/<a [^>]*>([^<]+)<\/a>/g)].map((m) => m[1]);
     };
     expect(await nav("cook")).toEqual(["Today", "My account"]);
-    expect(await nav("qa")).toEqual(["Today", "Review", "Records", "My account"]);
-    expect(await nav("manager")).toEqual(["Today", "Review", "Records", "Alerts", "Team", "Library", "Site settings", "Set up station", "My account"]);
-    expect(await nav("admin")).toEqual(["Today", "Review", "Records", "Alerts", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"]);
+    expect(await nav("qa")).toEqual(["Today", "Review", "Records", "Analytics", "My account"]);
+    expect(await nav("manager")).toEqual(["Today", "Review", "Records", "Analytics", "Alerts", "Team", "Library", "Site settings", "Set up station", "My account"]);
+    expect(await nav("admin")).toEqual(["Today", "Review", "Records", "Analytics", "Alerts", "Team", "Library", "Site settings", "Set up station", "Sites", "My account"]);
   });
 });

@@ -5,13 +5,13 @@ describe("navigation by role", () => {
   const keys = (role: Parameters<typeof navigationFor>[0]) => navigationFor(role, "s1").map((i) => i.key);
   it("cooks see their site and their account; QA also the review queue and the records", () => {
     expect(keys("cook")).toEqual(["home", "account"]);
-    expect(keys("qa")).toEqual(["home", "review", "records", "account"]);
+    expect(keys("qa")).toEqual(["home", "review", "records", "analytics", "account"]);
   });
   it("managers also review, get alerts, and run the team, the library, the settings and the stations", () => {
-    expect(keys("manager")).toEqual(["home", "review", "records", "alerts", "team", "library", "settings", "station", "account"]);
+    expect(keys("manager")).toEqual(["home", "review", "records", "analytics", "alerts", "team", "library", "settings", "station", "account"]);
   });
   it("administrators also manage the organisation's sites", () => {
-    expect(keys("admin")).toEqual(["home", "review", "records", "alerts", "team", "library", "settings", "station", "sites", "account"]);
+    expect(keys("admin")).toEqual(["home", "review", "records", "analytics", "alerts", "team", "library", "settings", "station", "sites", "account"]);
   });
   it("someone with no site sees only their account", () => {
     expect(navigationFor(null, null).map((i) => i.key)).toEqual(["account"]);

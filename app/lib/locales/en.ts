@@ -6,6 +6,7 @@ import { recordsViewEn } from "./en-records-view";
 import { shareEn } from "./en-share";
 import { curvesEn } from "./en-curves";
 import { weeklyEn } from "./en-weekly";
+import { analyticsEn } from "./en-analytics";
 export const en = {
   ...reviewEn,
   ...verifyEn,
@@ -15,6 +16,7 @@ export const en = {
   ...shareEn,
   ...curvesEn,
   ...weeklyEn,
+  ...analyticsEn,
   app: {
     name: "Chillwright",
     tagline: "Cooling records that catch a failing batch while it can still be saved.",
@@ -27,6 +29,7 @@ export const en = {
   nav: {
     review: "Review",
     records: "Records",
+    analytics: "Analytics",
     alerts: "Alerts",
     home: "Today",
     team: "Team",

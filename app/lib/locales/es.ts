@@ -6,6 +6,7 @@ import { recordsViewEs } from "./es-records-view";
 import { shareEs } from "./es-share";
 import { curvesEs } from "./es-curves";
 import { weeklyEs } from "./es-weekly";
+import { analyticsEs } from "./es-analytics";
 import type { Messages } from "./en";
 
 export const es: Messages = {
@@ -17,6 +18,7 @@ export const es: Messages = {
   ...shareEs,
   ...curvesEs,
   ...weeklyEs,
+  ...analyticsEs,
   app: {
     name: "Chillwright",
     tagline: "Registros de enfriamiento que detectan un lote que va mal cuando todavía se puede salvar.",
@@ -29,6 +31,7 @@ export const es: Messages = {
   nav: {
     review: "Revisión",
     records: "Registros",
+    analytics: "Análisis",
     alerts: "Alertas",
     home: "Hoy",
     team: "Equipo",
