@@ -24,3 +24,6 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (!result.ok) return data({ errors: result.errors }, { status: result.status });
   return data({ id: result.value.id, duplicate: !result.created, warnings: result.warnings }, { status: result.created ? 201 : 200 });
 }
+
+// Entries are posted; a GET is a mistake, said plainly.
+export const loader = () => data({ error: "Use POST" }, { status: 405 });

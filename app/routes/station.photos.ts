@@ -12,3 +12,6 @@ export async function action({ request }: Route.ActionArgs) {
   const photo = await processPhoto(upload.bytes);
   return data(await savePhoto(site, entrant, photo), { status: 201 });
 }
+
+// Entries are posted; a GET is a mistake, said plainly.
+export const loader = () => data({ error: "Use POST" }, { status: 405 });
