@@ -51,15 +51,16 @@ export default function Shell({ loaderData }: Route.ComponentProps) {
             </Form>
           </div>
         </div>
-        <nav aria-label={t("nav.mainMenu")} className="overflow-x-auto px-2 sm:px-4">
-          <ul className="flex gap-1">
+        <nav aria-label={t("nav.mainMenu")} className="px-2 sm:px-4">
+          {/* Wraps to a second row on an upright tablet: every item stays in sight, none scrolls away. */}
+          <ul className="flex flex-wrap gap-x-1">
             {nav.map((item) => (
               <li key={item.key}>
                 <NavLink
                   to={item.to}
-                  end={item.key === "home"}
+                  end={item.key === "home" || item.key === "sites"}
                   className={({ isActive }) =>
-                    `flex min-h-14 items-center border-b-4 px-4 text-base font-bold whitespace-nowrap ${isActive ? "border-glacier text-glacier-dark" : "border-transparent text-ink-soft hover:text-ink"}`
+                    `flex min-h-14 items-center border-b-4 px-3 text-base font-bold whitespace-nowrap lg:px-4 ${isActive ? "border-glacier text-glacier-dark" : "border-transparent text-ink-soft hover:text-ink"}`
                   }
                 >
                   {t(`nav.${item.key}`)}

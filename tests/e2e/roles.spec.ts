@@ -34,6 +34,9 @@ for (const role of ["cook", "manager", "qa", "admin"] as const) {
 
     await page.setViewportSize({ width: 820, height: 1180 });
     await expect(menu).toBeVisible();
+    // Upright, the menu wraps rather than hiding items off to the side.
+    expect(await menu.evaluate((n) => n.scrollWidth - n.clientWidth)).toBeLessThanOrEqual(0);
+    expect(await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth)).toBeLessThanOrEqual(0);
     await page.screenshot({ path: `${SCREENS}/home-${role}-es-portrait.png`, fullPage: true });
   });
 }
