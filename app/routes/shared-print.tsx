@@ -10,7 +10,14 @@ export const meta: Route.MetaFunction = () => [{ title: "Cooling log · Chillwri
 // GET /shared/:token/print — the paper log of the link's dates (or a part of them), read-only.
 export async function loader({ request, params }: Route.LoaderArgs) {
   const share = await openShare(request, params.token, "print", "page");
-  const { query } = parseRecordsQuery(new URL(request.url).searchParams, share.site.timeZone, Date.now(), share.range);
+  const search = new URL(request.url).searchParams;
+  // Unless asked for other dates, a week's log: the last seven days of the shared range.
+  if (!search.has("from") && !search.has("to")) {
+    const weekStart = new Date(Date.parse(`${share.range.to}T00:00:00Z`) - 6 * 86_400_000).toISOString().slice(0, 10);
+    search.set("from", weekStart > share.range.from ? weekStart : share.range.from);
+    search.set("to", share.range.to);
+  }
+  const { query } = parseRecordsQuery(search, share.site.timeZone, Date.now(), share.range);
   const log = await getPrintLog(share.site, query);
   const ruleSet = getRuleSet(share.site.ruleSetCode)!;
   await share.allow();
