@@ -304,7 +304,7 @@ class ConstantSeries implements Series1D {
     return 1;
   }
   state(): ModalState {
-    return { constant: this.u, zeta: [], phi: [], amp: [] };
+    return { constant: this.u, zeta: [], phi: [], amp: [], symmetric: true };
   }
 }
 
@@ -338,6 +338,12 @@ abstract class ModalSeries implements Series1D {
    * asked about later times.
    */
   protected earlyPendingU = 0;
+  /**
+   * 2 when only every other mode is excited (a slab alike on both faces from a start symmetric about
+   * its mid-plane: the odd modes; the even ones are zero and are neither found nor summed). Term
+   * counts and tail bounds stay in the full numbering; the arrays hold the excited modes only.
+   */
+  protected stride = 1;
 
   constructor(
     protected readonly tol: number,
@@ -369,11 +375,16 @@ abstract class ModalSeries implements Series1D {
     if (fo === this.termsFo) return this.termsN;
     let n: number;
     // Where both forms are good, a long series loses to two erfc evaluations.
-    if (fo <= this.earlyUpToFo && fo <= this.earlyLimit() && !this.tailOk(SERIES_PREFERRED_TERMS, fo)) n = 0;
-    else n = this.countTerms(fo);
+    if (fo <= this.earlyUpToFo && fo <= this.earlyLimit() && !this.tailOk(SERIES_PREFERRED_TERMS * this.stride, fo)) n = 0;
+    else n = this.stored(this.countTerms(fo));
     this.termsFo = fo;
     this.termsN = n;
     return n;
+  }
+
+  /** Stored modes that cover the first n modes of the full numbering. */
+  protected stored(n: number): number {
+    return this.stride === 1 ? n : (n + 1) >> 1;
   }
 
   private earlyLimit(): number {
@@ -503,6 +514,8 @@ interface ModalState {
   zeta: number[];
   phi: number[];
   amp: number[];
+  /** Every mode symmetric about the mid-plane (from a slab alike on both faces). */
+  symmetric?: boolean;
 }
 
 /**
@@ -564,6 +577,7 @@ class SlabSeries extends ModalSeries {
     // A profile keeps summing until the early-time form is accurate for it; a projection by quadrature
     // costs one pass over the nodes per term, so it stops sooner.
     super(tol, start.kind === "uniform" ? cap : start.modes ? MAX_TERMS_MODAL : MAX_TERMS_PROFILE);
+    if (b0 === b1 && (start.kind === "uniform" || start.modes?.symmetric === true)) this.stride = 2;
     if (start.kind === "uniform") {
       if (!preferSeries) {
         const ceiling = earlyLimitCeilingFo(start.u, tol);
@@ -724,9 +738,22 @@ class SlabSeries extends ModalSeries {
   }
 
   protected computeMode(i: number): void {
-    const n = i + 1;
-    const z = i === 0 ? slabRoot(this.b0, this.b1, 1) : nextSlabRoot(this.b0, this.b1, n, this.zeta[i - 1]);
-    const phi0 = z === 0 ? 0.5 * PI : facePhase(z, this.b0);
+    let n: number;
+    let z: number;
+    let phi0: number;
+    if (this.stride === 2) {
+      // Mode n = 2i + 1 of the slab alike on both faces is mode i + 1 of its half, insulated at the
+      // mid-plane with Biot number b/2 on the half depth: ζ = 2λ, and ζ + 2φ = nπ gives the phase.
+      n = 2 * i + 1;
+      const bh = 0.5 * this.b0;
+      const lambda = i === 0 ? slabRoot(0, bh, 1) : nextSlabRoot(0, bh, i + 1, 0.5 * this.zeta[i - 1]);
+      z = 2 * lambda;
+      phi0 = 0.5 * (n * PI - z);
+    } else {
+      n = i + 1;
+      z = i === 0 ? slabRoot(this.b0, this.b1, 1) : nextSlabRoot(this.b0, this.b1, n, this.zeta[i - 1]);
+      phi0 = z === 0 ? 0.5 * PI : facePhase(z, this.b0);
+    }
     const norm = z === 0 ? 1 : 0.5 + (sin2Phase(z, this.b0) + sin2Phase(z, this.b1)) / (4 * z);
     // ∫₀¹ Xₙ dξ = [cos φ0 − (−1)ⁿ cos φ1] / ζₙ, since ζₙ + φ0 = nπ − φ1.
     const sign = n % 2 === 0 ? -1 : 1;
@@ -766,7 +793,8 @@ class SlabSeries extends ModalSeries {
     this.zeta[i] = z;
     this.phi[i] = phi0;
     this.amp[i] = a;
-    this.ampCentre[i] = a * Math.sin(0.5 * z + phi0);
+    // A symmetric mode at the mid-plane: sin(nπ/2) = ±1.
+    this.ampCentre[i] = this.stride === 2 ? (i % 2 === 0 ? a : -a) : a * Math.sin(0.5 * z + phi0);
     this.ampMean[i] = a * meanX;
   }
 
@@ -843,8 +871,8 @@ class SlabSeries extends ModalSeries {
 
   /** The series at fo, truncated where its tail is below tol/10; null past the term cap. */
   state(fo: number): ModalState | null {
-    if (fo === 0) return this.start.kind === "uniform" ? { constant: this.start.u, zeta: [], phi: [], amp: [] } : null;
-    const n = this.countTerms(fo);
+    if (fo === 0) return this.start.kind === "uniform" ? { constant: this.start.u, zeta: [], phi: [], amp: [], symmetric: true } : null;
+    const n = this.stored(this.countTerms(fo));
     if (n === 0) return null;
     const d = this.decays(fo, n);
     return {
@@ -852,6 +880,7 @@ class SlabSeries extends ModalSeries {
       zeta: this.zeta.slice(0, n),
       phi: this.phi.slice(0, n),
       amp: this.amp.slice(0, n).map((a, i) => a * d[i]),
+      symmetric: this.stride === 2,
     };
   }
 
