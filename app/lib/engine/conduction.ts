@@ -102,6 +102,13 @@ export interface Solution {
   /** Temperatures at `points` evenly spaced depths from bottom to top (block: centre line; radial: 0 to R). */
   profile(tS: number, points?: number): { xM: number[]; c: number[] };
   /**
+   * temperatureAt(tS, x) for every depth (block: on the vertical centre line) or radius x in `atM`,
+   * in one pass: each term's decay is computed once, and the eigenfunctions at those positions are
+   * kept, so asking again at other times for the same positions costs a product per term and point.
+   * Fills and returns `out` when given (at least as long as `atM`), else a new array.
+   */
+  temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array;
+  /**
    * First time (s, to 0.5 s) at which the probe is at or below targetC; 0 if it starts there; null if
    * the ambient is not below the target or it takes longer than maxS. Brackets on a time grid, so a
    * dip shorter than one grid step after a non-uniform start can be missed.
@@ -122,6 +129,8 @@ const MAX_TERMS_PROFILE = 600;
 // A continued solution's projection is closed-form and cheap: it may sum far longer.
 const MAX_TERMS_MODAL = 4000;
 const SERIES_PREFERRED_TERMS = 24;
+// Largest table of eigenfunction values a series keeps for batch evaluations (modes × positions).
+const MAX_GRID_TABLE = 1 << 16;
 const WALK_STEPS = 64;
 const FAR = 27; // erfc(27) < 1e-318: beyond η = 27 a face has not been felt
 
@@ -276,12 +285,33 @@ function maximiseOnUnit(f: (s: number) => number, samples = 16): { s: number; v:
   return { s: bestS, v: best };
 }
 
+// Scratch for batch evaluations, shared (typed arrays cost far more to allocate than a new solution's
+// whole set-up): eigenfunction values, a block's vertical factor, a profile's values.
+let rowScratch = new Float64Array(1024);
+let factorScratch = new Float64Array(64);
+let profileScratch = new Float64Array(64);
+function scratchTable(m: number): Float64Array {
+  return rowScratch.length >= m ? rowScratch : (rowScratch = new Float64Array(2 * m));
+}
+
+function scratchFactor(m: number): Float64Array {
+  return factorScratch.length >= m ? factorScratch : (factorScratch = new Float64Array(2 * m));
+}
+function scratchProfile(m: number): Float64Array {
+  return profileScratch.length >= m ? profileScratch : (profileScratch = new Float64Array(2 * m));
+}
+
 // ---------------------------------------------------------------------------------------------
 // One-dimensional series, dimensionless: position s ∈ [0, 1], Fourier number fo, excess temperature
 // (T − T∞, or θ for the factors of a block).
 
 interface Series1D {
   value(s: number, fo: number): number;
+  /**
+   * value(s[j], fo) into out[j] for j < s.length. The same array s (never changed once passed) may
+   * keep its eigenfunction values for later calls.
+   */
+  valuesAt(s: readonly number[], fo: number, out: Float64Array): void;
   centre(fo: number): number;
   mean(fo: number): number;
   terms(fo: number): number;
@@ -293,6 +323,9 @@ class ConstantSeries implements Series1D {
   constructor(private readonly u: number) {}
   value(): number {
     return this.u;
+  }
+  valuesAt(s: readonly number[], _fo: number, out: Float64Array): void {
+    out.fill(this.u, 0, s.length);
   }
   centre(): number {
     return this.u;
@@ -442,6 +475,70 @@ abstract class ModalSeries implements Series1D {
     let sum = 0;
     for (let i = 0; i < n; i++) sum += this.amp[i] * this.eigen(i, s) * d[i];
     return sum;
+  }
+
+  valuesAt(s: readonly number[], fo: number, out: Float64Array): void {
+    const m = s.length;
+    if (fo === 0) {
+      for (let j = 0; j < m; j++) out[j] = this.initial(s[j]);
+      return;
+    }
+    const n = this.terms(fo);
+    if (n === 0) {
+      for (let j = 0; j < m; j++) out[j] = this.early(s[j], fo);
+      return;
+    }
+    const d = this.decays(fo, n);
+    const amp = this.amp;
+    out.fill(0, 0, m);
+    // The first call for these positions (or too many values to keep): the eigenfunction values in
+    // shared scratch. From the second call on for the same positions: a table the series keeps.
+    let table: Float64Array;
+    if (s === this.gridS && n * m <= MAX_GRID_TABLE) table = this.eigenTable(s, n);
+    else {
+      this.gridS = s;
+      this.gridRows = 0;
+      table = scratchTable(n * m);
+      this.eigenRows(s, 0, n, table);
+    }
+    // Same order of operations as a single point: Σ over modes of (amp·decay)·eigenfunction.
+    for (let i = 0; i < n; i++) {
+      const w = amp[i] * d[i];
+      const row = i * m;
+      for (let j = 0; j < m; j++) out[j] += w * table[row + j];
+    }
+    if (n > SERIES_PREFERRED_TERMS) {
+      for (let j = 0; j < m; j++) if (this.earlyAt(s[j], fo)) out[j] = this.early(s[j], fo);
+    }
+  }
+
+  // Eigenfunction values at the positions last asked for (by identity), one row per mode.
+  private gridS: readonly number[] | null = null;
+  private gridTable: Float64Array | null = null;
+  private gridRows = 0;
+
+  private eigenTable(s: readonly number[], n: number): Float64Array {
+    const m = s.length;
+    let t = this.gridTable;
+    if (n > this.gridRows) {
+      if (!t || t.length < n * m) {
+        const grown = new Float64Array(Math.max(n, 2 * this.gridRows, 4) * m);
+        if (t && this.gridRows > 0) grown.set(t.subarray(0, this.gridRows * m));
+        t = this.gridTable = grown;
+      }
+      this.eigenRows(s, this.gridRows, n, t);
+      this.gridRows = n;
+    }
+    return t!;
+  }
+
+  /** Eigenfunction values of modes from ≤ i < to at the positions s, mode i into row i of t. */
+  protected eigenRows(s: readonly number[], from: number, to: number, t: Float64Array): void {
+    const m = s.length;
+    for (let i = from; i < to; i++) {
+      const row = i * m;
+      for (let j = 0; j < m; j++) t[row + j] = this.eigen(i, s[j]);
+    }
   }
 
   centre(fo: number): number {
@@ -802,6 +899,57 @@ class SlabSeries extends ModalSeries {
     return Math.sin(this.zeta[i] * s + this.phi[i]);
   }
 
+  // Evenly spaced positions (a profile): sin((j + 1)θ + α) = 2cos θ·sin(jθ + α) − sin((j − 1)θ + α)
+  // with θ = ζ·Δξ, a product and a difference per point, from fresh sines every WALK_STEPS points
+  // (the recurrence's rounding grows at most with the square of the steps: below 1e-12 of the
+  // amplitude there). At the bottom face the angle is φ0 itself: sine and cosine ζ/√(ζ² + B²) and
+  // B/√(ζ² + B²), no trigonometric call.
+  protected eigenRows(s: readonly number[], from: number, to: number, t: Float64Array): void {
+    const m = s.length;
+    const z = this.zeta;
+    const phi = this.phi;
+    const step = m > 2 ? (s[m - 1] - s[0]) / (m - 1) : 0;
+    let even = m > 2 && step > 0;
+    for (let j = 1; even && j < m - 1; j++) even = Math.abs(s[j] - (s[0] + j * step)) <= 1e-15;
+    const b0 = this.b0;
+    const faceStart = s[0] === 0 && b0 > 0 && b0 < Infinity;
+    for (let i = from; i < to; i++) {
+      const row = i * m;
+      const zi = z[i];
+      const pi = phi[i];
+      if (!even) {
+        for (let j = 0; j < m; j++) t[row + j] = Math.sin(zi * s[j] + pi);
+        continue;
+      }
+      const th = zi * step;
+      const c = Math.cos(th);
+      const sth = Math.sin(th);
+      const c2 = 2 * c;
+      for (let j0 = 0; j0 < m; j0 += WALK_STEPS) {
+        let here: number;
+        let cosHere: number;
+        if (j0 === 0 && faceStart && zi > 0) {
+          const r = 1 / Math.sqrt(zi * zi + b0 * b0);
+          here = zi * r;
+          cosHere = b0 * r;
+        } else {
+          const angle = zi * s[j0] + pi;
+          here = Math.sin(angle);
+          cosHere = Math.cos(angle);
+        }
+        // sin(α − θ) from sin α, cos α: the value before the run.
+        let prev = here * c - cosHere * sth;
+        const end = Math.min(m, j0 + WALK_STEPS);
+        for (let j = j0; j < end; j++) {
+          t[row + j] = here;
+          const next = c2 * here - prev;
+          prev = here;
+          here = next;
+        }
+      }
+    }
+  }
+
   // Points asked in even steps (a profile, a sampled search) share their sines: past the first two
   // points of a run, each mode's angle ζξ + φ is turned by ζ·Δξ with a cached rotation, so
   // a point costs a few products per term instead of a sine. The run restarts from fresh sines every
@@ -1030,13 +1178,48 @@ abstract class BaseSolution implements Solution {
     const n = Math.max(2, Math.floor(points));
     const len = this.extentM();
     const xM: number[] = [];
-    const c: number[] = [];
-    for (let i = 0; i < n; i++) {
-      const x = (len * i) / (n - 1);
-      xM.push(x);
-      c.push(this.lineC(tS, x));
+    for (let i = 0; i < n; i++) xM.push((len * i) / (n - 1));
+    const c = this.temperaturesAt(tS, xM, scratchProfile(n));
+    const out: number[] = [];
+    for (let i = 0; i < n; i++) out.push(c[i]);
+    return { xM, c: out };
+  }
+
+
+  // Positions on the unit length for a batch evaluation, kept between calls for the same positions
+  // (the series keep their eigenfunction values for them).
+  private lastAt: number[] | null = null;
+  private lastUnit: number[] | null = null;
+  protected unitPositions(atM: ArrayLike<number>): readonly number[] {
+    const m = atM.length;
+    const len = this.extentM();
+    const last = this.lastAt;
+    let same = last !== null && last.length === m;
+    for (let j = 0; same && j < m; j++) same = last![j] === atM[j];
+    if (!same || !this.lastUnit) {
+      const at: number[] = [];
+      const u: number[] = [];
+      for (let j = 0; j < m; j++) {
+        at.push(atM[j]);
+        u.push(Math.min(1, Math.max(0, atM[j] / len)));
+      }
+      this.lastAt = at;
+      this.lastUnit = u;
     }
-    return { xM, c };
+    return this.lastUnit;
+  }
+
+  abstract temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array;
+
+  /** temperaturesAt for a body with one series along its depth or radius. */
+  protected alongSeries(series: Series1D, foPerS: number, tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array {
+    checkTime(tS);
+    const m = atM.length;
+    const res = out ?? new Float64Array(m);
+    series.valuesAt(this.unitPositions(atM), tS * foPerS, res);
+    const a = this.ambientC;
+    for (let j = 0; j < m; j++) res[j] = a + res[j];
+    return res;
   }
 
   reachTime(targetC: number, which: Probe, maxS = 48 * 3600): number | null {
@@ -1089,6 +1272,10 @@ class SlabSolution extends BaseSolution {
 
   protected lineC(tS: number, xM: number): number {
     return this.ambientC + this.series.value(xM / this.depthM, tS * this.foPerS);
+  }
+
+  temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array {
+    return this.alongSeries(this.series, this.foPerS, tS, atM, out);
   }
 
   temperatureAt(tS: number, at: number | BlockPoint): number {
@@ -1149,6 +1336,10 @@ class RadialSolution extends BaseSolution {
 
   protected lineC(tS: number, rM: number): number {
     return this.ambientC + this.series.value(Math.min(1, Math.max(0, rM / this.radiusM)), tS * this.foPerS);
+  }
+
+  temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array {
+    return this.alongSeries(this.series, this.foPerS, tS, atM, out);
   }
 
   temperatureAt(tS: number, at: number | BlockPoint): number {
@@ -1226,6 +1417,26 @@ class BlockSolution extends BaseSolution {
 
   protected lineC(tS: number, zM: number): number {
     return this.at3(tS, 0.5, 0.5, Math.min(1, Math.max(0, zM / this.dims[2])));
+  }
+
+  temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array {
+    checkTime(tS);
+    const m = atM.length;
+    const res = out ?? new Float64Array(m);
+    const s = this.unitPositions(atM);
+    const f = this.foPerS;
+    const tmp = scratchFactor(m);
+    res.fill(0, 0, m);
+    for (const p of this.products) {
+      // The two wall factors at the centre line, then the vertical factor at every depth; the same
+      // order of products as one point.
+      const k = p.amplitude * p.factors[0].value(0.5, tS * f[0]) * p.factors[1].value(0.5, tS * f[1]);
+      p.factors[2].valuesAt(s, tS * f[2], tmp);
+      for (let j = 0; j < m; j++) res[j] += k * tmp[j];
+    }
+    const a = this.ambientC;
+    for (let j = 0; j < m; j++) res[j] = a + res[j];
+    return res;
   }
 
   temperatureAt(tS: number, at: number | BlockPoint): number {
