@@ -111,9 +111,11 @@ export interface Solution {
   /**
    * First time (s, to 0.5 s) at which the probe is at or below targetC; 0 if it starts there; null if
    * the ambient is not below the target or it takes longer than maxS. Brackets on a time grid, so a
-   * dip shorter than one grid step after a non-uniform start can be missed.
+   * dip shorter than one grid step after a non-uniform start can be missed. `near`, a time the answer
+   * is expected within 2 % of (the same target on a slightly different solution), is tried as the
+   * bracket first: for a probe that only falls (a uniform start) the answer is the same.
    */
-  reachTime(targetC: number, which: Probe, maxS?: number): number | null;
+  reachTime(targetC: number, which: Probe, maxS?: number, near?: number): number | null;
   /** Series terms one evaluation sums at tS (block: over all factors); 0 at t = 0 and where the early-time form is used. */
   terms(tS: number): number;
 }
@@ -1222,25 +1224,49 @@ abstract class BaseSolution implements Solution {
     return res;
   }
 
-  reachTime(targetC: number, which: Probe, maxS = 48 * 3600): number | null {
-    const probe =
-      which === "center"
-        ? (t: number) => this.centerC(t)
-        : which === "mean"
-          ? (t: number) => this.meanC(t)
-          : (t: number) => this.warmestC(t);
-    const g = (t: number) => probe(t) - targetC;
-    if (g(0) <= 0) return 0;
+  reachTime(targetC: number, which: Probe, maxS = 48 * 3600, near?: number): number | null {
+    const g = (t: number) => this.probeC(which, t) - targetC;
+    const g0 = g(0);
+    if (g0 <= 0) return 0;
     if (this.ambientC >= targetC) return null;
+    if (near !== undefined && near > 0 && 1.02 * near < maxS) {
+      const lo = 0.98 * near;
+      const hi = 1.02 * near;
+      const fa = g(lo);
+      if (fa > 0) {
+        const fb = g(hi);
+        if (fb <= 0) return findRootBrent(g, lo, hi, 0.5, { fa, fb });
+      }
+    }
     let tPrev = 0;
+    let fPrev = g0;
     // Grid from Fo = 0.001 (where a few tens of terms suffice), doubling: a cooling core falls
-    // monotonically, so the grid only brackets the crossing for Brent; it need not be fine.
-    for (let t = 1e-3 * this.timeScaleS(); tPrev < maxS; t *= 2) {
+    // monotonically, so the grid only brackets the crossing for Brent; it need not be fine. The
+    // grid's values are kept per probe: the next target on this solution walks the same grid.
+    let k = 0;
+    for (let t = 1e-3 * this.timeScaleS(); tPrev < maxS; t *= 2, k++) {
       const tNow = Math.min(t, maxS);
-      if (g(tNow) <= 0) return findRootBrent(g, tPrev, tNow, 0.5);
+      const v = (tNow === t ? this.gridC(which, k, t) : this.probeC(which, tNow)) - targetC;
+      if (v <= 0) return findRootBrent(g, tPrev, tNow, 0.5, { fa: fPrev, fb: v });
       tPrev = tNow;
+      fPrev = v;
     }
     return null;
+  }
+
+  private probeC(which: Probe, tS: number): number {
+    return which === "center" ? this.centerC(tS) : which === "mean" ? this.meanC(tS) : this.warmestC(tS);
+  }
+
+  // Probe values on reachTime's grid, by probe: k-th point at 0.001 × 2^k time scales.
+  private gridValues: Partial<Record<Probe, number[]>> | null = null;
+  private gridC(which: Probe, k: number, tS: number): number {
+    const memo = (this.gridValues ??= {});
+    const values = (memo[which] ??= []);
+    if (k < values.length) return values[k];
+    const v = this.probeC(which, tS);
+    if (k === values.length) values.push(v);
+    return v;
   }
 }
 
