@@ -131,6 +131,8 @@ const MAX_TERMS_PROFILE = 600;
 // A continued solution's projection is closed-form and cheap: it may sum far longer.
 const MAX_TERMS_MODAL = 4000;
 const SERIES_PREFERRED_TERMS = 24;
+// At the centre, where the early-time form is cheap, the series is kept only up to this many terms.
+const CENTRE_SERIES_TERMS = 8;
 // Largest table of eigenfunction values a series keeps for batch evaluations (modes × positions).
 const MAX_GRID_TABLE = 1 << 16;
 const WALK_STEPS = 64;
@@ -422,7 +424,7 @@ abstract class ModalSeries implements Series1D {
     return this.stride === 1 ? n : (n + 1) >> 1;
   }
 
-  private earlyLimit(): number {
+  protected earlyLimit(): number {
     if (this.earlyPendingU !== 0) {
       this.earlyUpToFo = earlyLimitFo(this.earlyPendingU, this.tol);
       this.earlyPendingU = 0;
@@ -467,6 +469,8 @@ abstract class ModalSeries implements Series1D {
 
   value(s: number, fo: number): number {
     if (fo === 0) return this.initial(s);
+    // The centre itself by the same rule as centre(), so that the two agree.
+    if (s === this.centreS()) return this.centre(fo);
     const n = this.terms(fo);
     if (n === 0 || (n > SERIES_PREFERRED_TERMS && this.earlyAt(s, fo))) return this.early(s, fo);
     return this.sumModes(s, n, this.decays(fo, n));
@@ -512,6 +516,9 @@ abstract class ModalSeries implements Series1D {
     if (n > SERIES_PREFERRED_TERMS) {
       for (let j = 0; j < m; j++) if (this.earlyAt(s[j], fo)) out[j] = this.early(s[j], fo);
     }
+    // The centre as value() gives it: by centre()'s rule.
+    const c = this.centreS();
+    for (let j = 0; j < m; j++) if (s[j] === c) out[j] = this.centre(fo);
   }
 
   // Eigenfunction values at the positions last asked for (by identity), one row per mode.
@@ -546,7 +553,14 @@ abstract class ModalSeries implements Series1D {
   centre(fo: number): number {
     if (fo === 0) return this.initial(0.5);
     const n = this.terms(fo);
-    if (n === 0 || (n > SERIES_PREFERRED_TERMS && this.earlyAt(this.centreS(), fo))) {
+    // At the centre the early-time form costs one or two face responses (nothing where neither face
+    // has been felt yet): wherever it is exact to tol/10, it beats all but a short series, whose
+    // modes would first have to be found.
+    if (
+      n === 0 ||
+      (n > CENTRE_SERIES_TERMS && fo <= this.earlyUpToFo && fo <= this.earlyLimit()) ||
+      (n > SERIES_PREFERRED_TERMS && this.earlyAt(this.centreS(), fo))
+    ) {
       return this.early(this.centreS(), fo);
     }
     const d = this.decays(fo, n);
@@ -1441,8 +1455,16 @@ class BlockSolution extends BaseSolution {
     return 1 / Math.max(...this.foPerS);
   }
 
+  // On the vertical centre line the two wall factors are at their centres.
   protected lineC(tS: number, zM: number): number {
-    return this.at3(tS, 0.5, 0.5, Math.min(1, Math.max(0, zM / this.dims[2])));
+    const [fx, fy, fz] = this.foPerS;
+    const sz = Math.min(1, Math.max(0, zM / this.dims[2]));
+    let sum = 0;
+    for (const p of this.products) {
+      const [x, y, z] = p.factors;
+      sum += p.amplitude * x.centre(tS * fx) * y.centre(tS * fy) * z.value(sz, tS * fz);
+    }
+    return this.ambientC + sum;
   }
 
   temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array {
@@ -1456,7 +1478,7 @@ class BlockSolution extends BaseSolution {
     for (const p of this.products) {
       // The two wall factors at the centre line, then the vertical factor at every depth; the same
       // order of products as one point.
-      const k = p.amplitude * p.factors[0].value(0.5, tS * f[0]) * p.factors[1].value(0.5, tS * f[1]);
+      const k = p.amplitude * p.factors[0].centre(tS * f[0]) * p.factors[1].centre(tS * f[1]);
       p.factors[2].valuesAt(s, tS * f[2], tmp);
       for (let j = 0; j < m; j++) res[j] += k * tmp[j];
     }
