@@ -136,6 +136,7 @@ const CENTRE_SERIES_TERMS = 8;
 // Largest table of eigenfunction values a series keeps for batch evaluations (modes × positions).
 const MAX_GRID_TABLE = 1 << 16;
 const WALK_STEPS = 64;
+const BEND_BLOCK = 16;
 const FAR = 27; // erfc(27) < 1e-318: beyond η = 27 a face has not been felt
 
 // ---------------------------------------------------------------------------------------------
@@ -389,6 +390,8 @@ abstract class ModalSeries implements Series1D {
 
   /** Bound on |aₙ·eigenfunction| for every n > N (N ≥ 1). */
   protected abstract ampTail(n: number): number;
+  /** Whether ampTail(n) is ampTail(1)/n (else it is constant). */
+  protected ampFalls = false;
   /** Computes mode n (0-based index i = n − 1) into the arrays. */
   protected abstract computeMode(i: number): void;
   protected abstract eigen(i: number, s: number): number;
@@ -403,7 +406,7 @@ abstract class ModalSeries implements Series1D {
     this.count = n;
   }
 
-  private tailOk(n: number, fo: number): boolean {
+  protected tailOk(n: number, fo: number): boolean {
     return this.ampTail(n) * gaussTail(n, fo) < this.tol / 10;
   }
 
@@ -437,14 +440,19 @@ abstract class ModalSeries implements Series1D {
     // Closed form, no search: with K = 1/(1 − e^(−3π²Fo)) bounding the geometric factor for every N,
     // N = ⌈√(ln(A·K/lim)/(π²Fo))⌉ is enough; a second pass with the amplitude bound at that N trims
     // it, kept only if the exact test still passes.
+    // In logarithms: one exponential and one logarithm fewer. With an amplitude bound that falls as
+    // 1/n (a uniform slab), ln(A(n)·K/lim) = ln(A(1)·K/lim) − ln n; with a constant one the second
+    // pass would give n again.
     const lim = this.tol / 10;
     const c = PI2 * fo;
     const k = 1 / -Math.expm1(-3 * c);
     const a1 = this.ampTail(1);
-    if (a1 * k * Math.exp(-c) < lim) return 1;
-    let n = Math.max(2, Math.ceil(Math.sqrt(Math.log((a1 * k) / lim) / c)));
+    const logFirst = Math.log((a1 * k) / lim);
+    if (logFirst < c) return 1;
+    let n = Math.max(2, Math.ceil(Math.sqrt(logFirst / c)));
     if (n > this.cap) return this.tailOk(this.cap, fo) ? this.cap : 0;
-    const trimmed = Math.max(1, Math.ceil(Math.sqrt(Math.max(0, Math.log((this.ampTail(n) * k) / lim)) / c)));
+    if (!this.ampFalls) return n;
+    const trimmed = Math.max(1, Math.ceil(Math.sqrt(Math.max(0, logFirst - Math.log(n)) / c)));
     if (trimmed < n && this.tailOk(trimmed, fo)) n = trimmed;
     return n;
   }
@@ -552,15 +560,14 @@ abstract class ModalSeries implements Series1D {
 
   centre(fo: number): number {
     if (fo === 0) return this.initial(0.5);
-    const n = this.terms(fo);
     // At the centre the early-time form costs one or two face responses (nothing where neither face
     // has been felt yet): wherever it is exact to tol/10, it beats all but a short series, whose
     // modes would first have to be found.
-    if (
-      n === 0 ||
-      (n > CENTRE_SERIES_TERMS && fo <= this.earlyUpToFo && fo <= this.earlyLimit()) ||
-      (n > SERIES_PREFERRED_TERMS && this.earlyAt(this.centreS(), fo))
-    ) {
+    if (fo <= this.earlyUpToFo && fo <= this.earlyLimit() && !this.tailOk(CENTRE_SERIES_TERMS * this.stride, fo)) {
+      return this.early(this.centreS(), fo);
+    }
+    const n = this.terms(fo);
+    if (n === 0 || (n > SERIES_PREFERRED_TERMS && this.earlyAt(this.centreS(), fo))) {
       return this.early(this.centreS(), fo);
     }
     const d = this.decays(fo, n);
@@ -676,7 +683,7 @@ class SlabSeries extends ModalSeries {
   private startMean = 0;
   private pointwise = false;
   private ends: { x0: Float64Array; dx0: Float64Array; x1: Float64Array; dx1: Float64Array } | null = null;
-  private bends: Float64Array[] | null = null; // range-maximum table of |u''| on a grid
+  private bends: Float64Array[] | null = null; // |u''| on a grid, and its maxima by blocks
   private bendGrid = 512;
 
   constructor(
@@ -691,6 +698,7 @@ class SlabSeries extends ModalSeries {
     // costs one pass over the nodes per term, so it stops sooner.
     super(tol, start.kind === "uniform" ? cap : start.modes ? MAX_TERMS_MODAL : MAX_TERMS_PROFILE);
     if (b0 === b1 && (start.kind === "uniform" || start.modes?.symmetric === true)) this.stride = 2;
+    this.ampFalls = start.kind === "uniform";
     if (start.kind === "uniform") {
       if (!preferSeries) {
         const ceiling = earlyLimitCeilingFo(start.u, tol);
@@ -778,22 +786,27 @@ class SlabSeries extends ModalSeries {
         base[0] = base[1];
         base[grid] = base[grid - 1];
       }
-      const levels = [base];
-      for (let w = 1; 2 * w <= grid + 1; w *= 2) {
-        const prev = levels[levels.length - 1];
-        const next = new Float64Array(grid + 1);
-        for (let j = 0; j + 2 * w <= grid + 1; j++) next[j] = Math.max(prev[j], prev[j + w]);
-        levels.push(next);
+      // Maxima of blocks of BEND_BLOCK grid points: a range's maximum is a scan of a few blocks
+      // and the points at either end (one small array instead of a table per power of two).
+      const blocks = new Float64Array(Math.ceil((grid + 1) / BEND_BLOCK));
+      for (let j = 0; j <= grid; j++) {
+        const q = Math.floor(j / BEND_BLOCK);
+        if (base[j] > blocks[q]) blocks[q] = base[j];
       }
-      this.bends = levels;
+      this.bends = [base, blocks];
     }
     // One grid cell of margin on each side: a bend between grid points is seen by its neighbours.
     const grid = this.bendGrid;
     const lo = Math.max(0, Math.floor(a * grid) - 1);
     const hi = Math.min(grid, Math.ceil(b * grid) + 1);
-    const k = Math.floor(Math.log2(hi - lo + 1));
-    const t = this.bends[k];
-    return Math.max(t[lo], t[hi - (1 << k) + 1]);
+    const base = this.bends[0];
+    const blocks = this.bends[1];
+    let most = 0;
+    let j = lo;
+    for (; j <= hi && j % BEND_BLOCK !== 0; j++) most = Math.max(most, base[j]);
+    for (; j + BEND_BLOCK - 1 <= hi; j += BEND_BLOCK) most = Math.max(most, blocks[j / BEND_BLOCK]);
+    for (; j <= hi; j++) most = Math.max(most, base[j]);
+    return most;
   }
 
   // amp·X and amp·X' of each mode of the start at ξ = 0 and ξ = 1.
