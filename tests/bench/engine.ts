@@ -55,6 +55,12 @@ export function benchEngine() {
   ];
   const runs: number[] = [];
   const alone: number[] = [];
+  // The first prediction in a fresh process pays for compiling the engine; a server predicts all
+  // day. The first one is reported on its own, then 20 untimed runs, then the median of 40.
+  let t1 = performance.now();
+  sink += predictBatch({ model, readings, nowS: 7200, stages, prior, alternatives }).stages[0].reachS ?? 0;
+  const firstMs = performance.now() - t1;
+  for (let i = 0; i < 20; i++) sink += predictBatch({ model, readings, nowS: 7200, stages, prior, alternatives }).stages[0].reachS ?? 0;
   for (let i = 0; i < 40; i++) {
     let t0 = performance.now();
     const p = predictBatch({ model, readings, nowS: 7200, stages, prior, alternatives });
@@ -66,6 +72,7 @@ export function benchEngine() {
   }
   line(`batch prediction: fit to 8 readings, 2 stages with bands`, `${median(alone).toFixed(2)} ms median`);
   line(`  … plus ${alternatives.length} what-ifs`, `${median(runs).toFixed(2)} ms median (target < 2 ms)`);
+  line(`  … the first one in a fresh process (compiling)`, `${firstMs.toFixed(1)} ms`);
 
   // 3. Series against the independent Crank–Nicolson solver at equal accuracy (0.01 K at the centre, 2 h).
   const exact = slab.centerC(7200);

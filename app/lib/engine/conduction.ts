@@ -295,6 +295,18 @@ function maximiseOnUnit(f: (s: number) => number, samples = 16): { s: number; v:
 let rowScratch = new Float64Array(1024);
 let factorScratch = new Float64Array(64);
 let profileScratch = new Float64Array(64);
+/** The step of evenly spaced positions (to 1e-15), or 0. */
+function evenStep(s: readonly number[]): number {
+  const m = s.length;
+  if (m < 3) return 0;
+  const step = (s[m - 1] - s[0]) / (m - 1);
+  if (!(step > 0)) return 0;
+  for (let j = 1; j < m - 1; j++) if (Math.abs(s[j] - (s[0] + j * step)) > 1e-15) return 0;
+  return step;
+}
+
+const walkState = new Float64Array(4);
+
 function scratchTable(m: number): Float64Array {
   return rowScratch.length >= m ? rowScratch : (rowScratch = new Float64Array(2 * m));
 }
@@ -507,19 +519,23 @@ abstract class ModalSeries implements Series1D {
     out.fill(0, 0, m);
     // The first call for these positions (or too many values to keep): the eigenfunction values in
     // shared scratch. From the second call on for the same positions: a table the series keeps.
-    let table: Float64Array;
+    let table: Float64Array | null = null;
     if (s === this.gridS && n * m <= MAX_GRID_TABLE) table = this.eigenTable(s, n);
     else {
       this.gridS = s;
       this.gridRows = 0;
-      table = scratchTable(n * m);
-      this.eigenRows(s, 0, n, table);
+      if (!this.addModes(s, n, d, out)) {
+        table = scratchTable(n * m);
+        this.eigenRows(s, 0, n, table);
+      }
     }
     // Same order of operations as a single point: Σ over modes of (amp·decay)·eigenfunction.
-    for (let i = 0; i < n; i++) {
-      const w = amp[i] * d[i];
-      const row = i * m;
-      for (let j = 0; j < m; j++) out[j] += w * table[row + j];
+    if (table) {
+      for (let i = 0; i < n; i++) {
+        const w = amp[i] * d[i];
+        const row = i * m;
+        for (let j = 0; j < m; j++) out[j] += w * table[row + j];
+      }
     }
     if (n > SERIES_PREFERRED_TERMS) {
       for (let j = 0; j < m; j++) if (this.earlyAt(s[j], fo)) out[j] = this.early(s[j], fo);
@@ -547,6 +563,14 @@ abstract class ModalSeries implements Series1D {
       this.gridRows = n;
     }
     return t!;
+  }
+
+  /**
+   * out[j] += (amp·decay)·eigenfunction at s[j] for the first n modes, mode by mode, without keeping
+   * the values (a first call for these positions); false where the series has no such shortcut.
+   */
+  protected addModes(_s: readonly number[], _n: number, _d: number[], _out: Float64Array): boolean {
+    return false;
   }
 
   /** Eigenfunction values of modes from ≤ i < to at the positions s, mode i into row i of t. */
@@ -935,40 +959,45 @@ class SlabSeries extends ModalSeries {
   // B/√(ζ² + B²), no trigonometric call.
   protected eigenRows(s: readonly number[], from: number, to: number, t: Float64Array): void {
     const m = s.length;
-    const z = this.zeta;
-    const phi = this.phi;
-    const step = m > 2 ? (s[m - 1] - s[0]) / (m - 1) : 0;
-    let even = m > 2 && step > 0;
-    for (let j = 1; even && j < m - 1; j++) even = Math.abs(s[j] - (s[0] + j * step)) <= 1e-15;
-    const b0 = this.b0;
-    const faceStart = s[0] === 0 && b0 > 0 && b0 < Infinity;
+    const step = evenStep(s);
     for (let i = from; i < to; i++) {
-      const row = i * m;
-      const zi = z[i];
-      const pi = phi[i];
-      if (!even) {
+      if (step > 0) this.walkMode(i, s, step, t, i * m, 0, null);
+      else {
+        const row = i * m;
+        const zi = this.zeta[i];
+        const pi = this.phi[i];
         for (let j = 0; j < m; j++) t[row + j] = Math.sin(zi * s[j] + pi);
-        continue;
       }
-      const th = zi * step;
-      const c = Math.cos(th);
-      const sth = Math.sin(th);
-      const c2 = 2 * c;
-      for (let j0 = 0; j0 < m; j0 += WALK_STEPS) {
-        let here: number;
-        let cosHere: number;
-        if (j0 === 0 && faceStart && zi > 0) {
-          const r = 1 / Math.sqrt(zi * zi + b0 * b0);
-          here = zi * r;
-          cosHere = b0 * r;
-        } else {
-          const angle = zi * s[j0] + pi;
-          here = Math.sin(angle);
-          cosHere = Math.cos(angle);
+    }
+  }
+
+  protected addModes(s: readonly number[], n: number, d: number[], out: Float64Array): boolean {
+    const step = evenStep(s);
+    if (!(step > 0)) return false;
+    let i = 0;
+    for (; i + 1 < n; i += 2) this.walkPair(i, s, step, this.amp[i] * d[i], this.amp[i + 1] * d[i + 1], out);
+    if (i < n) this.walkMode(i, s, step, out, 0, this.amp[i] * d[i], out);
+    return true;
+  }
+
+  // Mode i along evenly spaced positions: its values into t from `row` on, or (with `add`) w times
+  // its values added to `add`.
+  private walkMode(i: number, s: readonly number[], step: number, t: Float64Array, row: number, w: number, add: Float64Array | null): void {
+    const m = s.length;
+    const c2 = 2 * Math.cos(this.zeta[i] * step);
+    for (let j0 = 0; j0 < m; j0 += WALK_STEPS) {
+      this.walkStart(i, s, j0, step, 0);
+      let here = walkState[0];
+      let prev = walkState[1];
+      const end = Math.min(m, j0 + WALK_STEPS);
+      if (add) {
+        for (let j = j0; j < end; j++) {
+          add[j] += w * here;
+          const next = c2 * here - prev;
+          prev = here;
+          here = next;
         }
-        // sin(α − θ) from sin α, cos α: the value before the run.
-        let prev = here * c - cosHere * sth;
-        const end = Math.min(m, j0 + WALK_STEPS);
+      } else {
         for (let j = j0; j < end; j++) {
           t[row + j] = here;
           const next = c2 * here - prev;
@@ -977,6 +1006,52 @@ class SlabSeries extends ModalSeries {
         }
       }
     }
+  }
+
+  // Modes i and i + 1 side by side (two independent recurrences keep the processor busy), w0 and w1
+  // times their values added to `add`, mode i first at every point as one mode at a time would.
+  private walkPair(i: number, s: readonly number[], step: number, w0: number, w1: number, add: Float64Array): void {
+    const m = s.length;
+    const c0 = 2 * Math.cos(this.zeta[i] * step);
+    const c1 = 2 * Math.cos(this.zeta[i + 1] * step);
+    for (let j0 = 0; j0 < m; j0 += WALK_STEPS) {
+      this.walkStart(i, s, j0, step, 0);
+      this.walkStart(i + 1, s, j0, step, 2);
+      let h0 = walkState[0];
+      let p0 = walkState[1];
+      let h1 = walkState[2];
+      let p1 = walkState[3];
+      const end = Math.min(m, j0 + WALK_STEPS);
+      for (let j = j0; j < end; j++) {
+        add[j] = add[j] + w0 * h0 + w1 * h1;
+        const n0 = c0 * h0 - p0;
+        const n1 = c1 * h1 - p1;
+        p0 = h0;
+        h0 = n0;
+        p1 = h1;
+        h1 = n1;
+      }
+    }
+  }
+
+  // sin α and sin(α − θ) of mode i at s[j0] into walkState[k], walkState[k + 1].
+  private walkStart(i: number, s: readonly number[], j0: number, step: number, k: number): void {
+    const zi = this.zeta[i];
+    const b0 = this.b0;
+    let here: number;
+    let cosHere: number;
+    if (j0 === 0 && s[0] === 0 && b0 > 0 && b0 < Infinity && zi > 0) {
+      const r = 1 / Math.sqrt(zi * zi + b0 * b0);
+      here = zi * r;
+      cosHere = b0 * r;
+    } else {
+      const angle = zi * s[j0] + this.phi[i];
+      here = Math.sin(angle);
+      cosHere = Math.cos(angle);
+    }
+    const th = zi * step;
+    walkState[k] = here;
+    walkState[k + 1] = here * Math.cos(th) - cosHere * Math.sin(th);
   }
 
   // Points asked in even steps (a profile, a sampled search) share their sines: past the first two
@@ -1226,12 +1301,9 @@ abstract class BaseSolution implements Solution {
     let same = last !== null && last.length === m;
     for (let j = 0; same && j < m; j++) same = last![j] === atM[j];
     if (!same || !this.lastUnit) {
-      const at: number[] = [];
-      const u: number[] = [];
-      for (let j = 0; j < m; j++) {
-        at.push(atM[j]);
-        u.push(Math.min(1, Math.max(0, atM[j] / len)));
-      }
+      const at: number[] = Array.prototype.slice.call(atM);
+      const u = at.slice();
+      for (let j = 0; j < m; j++) u[j] = Math.min(1, Math.max(0, u[j] / len));
       this.lastAt = at;
       this.lastUnit = u;
     }
