@@ -702,7 +702,7 @@ function cosIntegral(c: number, d: number): number {
  */
 class SlabSeries extends ModalSeries {
   private readonly phi: number[] = [];
-  private levels: QuadratureLevel[] = [];
+  private levels: QuadratureLevel[] | null = null; // a profile start's quadratures, made on first use
   private l1 = 0;
   private startMean = 0;
   private pointwise = false;
@@ -867,9 +867,10 @@ class SlabSeries extends ModalSeries {
   private level(panelsWanted: number): QuadratureLevel {
     const start = this.start;
     if (start.kind !== "profile") throw new Error("uniform start has no quadrature");
-    for (const l of this.levels) if (l.panels >= panelsWanted) return l;
+    const levels = (this.levels ??= []);
+    for (const l of levels) if (l.panels >= panelsWanted) return l;
     const seg = start.segments;
-    let panels = Math.max(panelsWanted, this.levels.length ? 2 * this.levels[this.levels.length - 1].panels : 0);
+    let panels = Math.max(panelsWanted, levels.length ? 2 * levels[levels.length - 1].panels : 0);
     if (seg > 0) panels = seg * Math.ceil(panels / seg);
     const nodes = new Float64Array(panels * 8);
     const weightedU = new Float64Array(panels * 8);
@@ -883,7 +884,7 @@ class SlabSeries extends ModalSeries {
       }
     }
     const l = { panels, nodes, weightedU };
-    this.levels.push(l);
+    levels.push(l);
     return l;
   }
 
@@ -984,9 +985,12 @@ class SlabSeries extends ModalSeries {
   // its values added to `add`.
   private walkMode(i: number, s: readonly number[], step: number, t: Float64Array, row: number, w: number, add: Float64Array | null): void {
     const m = s.length;
-    const c2 = 2 * Math.cos(this.zeta[i] * step);
+    const th = this.zeta[i] * step;
+    const c = Math.cos(th);
+    const sth = Math.sin(th);
+    const c2 = 2 * c;
     for (let j0 = 0; j0 < m; j0 += WALK_STEPS) {
-      this.walkStart(i, s, j0, step, 0);
+      this.walkStart(i, s, j0, c, sth, 0);
       let here = walkState[0];
       let prev = walkState[1];
       const end = Math.min(m, j0 + WALK_STEPS);
@@ -1012,11 +1016,17 @@ class SlabSeries extends ModalSeries {
   // times their values added to `add`, mode i first at every point as one mode at a time would.
   private walkPair(i: number, s: readonly number[], step: number, w0: number, w1: number, add: Float64Array): void {
     const m = s.length;
-    const c0 = 2 * Math.cos(this.zeta[i] * step);
-    const c1 = 2 * Math.cos(this.zeta[i + 1] * step);
+    const th0 = this.zeta[i] * step;
+    const th1 = this.zeta[i + 1] * step;
+    const cos0 = Math.cos(th0);
+    const cos1 = Math.cos(th1);
+    const sin0 = Math.sin(th0);
+    const sin1 = Math.sin(th1);
+    const c0 = 2 * cos0;
+    const c1 = 2 * cos1;
     for (let j0 = 0; j0 < m; j0 += WALK_STEPS) {
-      this.walkStart(i, s, j0, step, 0);
-      this.walkStart(i + 1, s, j0, step, 2);
+      this.walkStart(i, s, j0, cos0, sin0, 0);
+      this.walkStart(i + 1, s, j0, cos1, sin1, 2);
       let h0 = walkState[0];
       let p0 = walkState[1];
       let h1 = walkState[2];
@@ -1034,8 +1044,8 @@ class SlabSeries extends ModalSeries {
     }
   }
 
-  // sin α and sin(α − θ) of mode i at s[j0] into walkState[k], walkState[k + 1].
-  private walkStart(i: number, s: readonly number[], j0: number, step: number, k: number): void {
+  // sin α and sin(α − θ) of mode i at s[j0] into walkState[k], walkState[k + 1] (cos θ, sin θ given).
+  private walkStart(i: number, s: readonly number[], j0: number, cosTh: number, sinTh: number, k: number): void {
     const zi = this.zeta[i];
     const b0 = this.b0;
     let here: number;
@@ -1049,9 +1059,8 @@ class SlabSeries extends ModalSeries {
       here = Math.sin(angle);
       cosHere = Math.cos(angle);
     }
-    const th = zi * step;
     walkState[k] = here;
-    walkState[k + 1] = here * Math.cos(th) - cosHere * Math.sin(th);
+    walkState[k + 1] = here * cosTh - cosHere * sinTh;
   }
 
   // Points asked in even steps (a profile, a sampled search) share their sines: past the first two
