@@ -142,3 +142,20 @@ describe("temperaturesAt against the independent numerical solver", () => {
     }
   });
 });
+
+describe("the centre of a wide pan's walls", () => {
+  it("from the early-time form where it is exact, agrees with the full series within 0.01 K, and with temperatureAt", () => {
+    const dims = { lengthM: 0.53, widthM: 0.325, depthM: 0.075 };
+    for (const wallH of [2, 6, 40, "inf"] as const) {
+      const g: Geometry = { shape: "block", ...dims, wallH, bottomH: 4, topH: 2.5 };
+      const usual = solveConduction(g, food, 68, 3);
+      const series = solveConduction(g, food, 68, 3, { preferSeries: true });
+      for (const t of [60, 300, 900, 1800, 3600, 7200, 14400, 28800, 86400]) {
+        expect(Math.abs(usual.centerC(t) - series.centerC(t))).toBeLessThan(0.01);
+        const mid = { xM: dims.lengthM / 2, yM: dims.widthM / 2, zM: dims.depthM / 2 };
+        expect(usual.temperatureAt(t, mid)).toBeCloseTo(usual.centerC(t), 10);
+        expect(usual.temperaturesAt(t, [dims.depthM / 2])[0]).toBeCloseTo(usual.centerC(t), 10);
+      }
+    }
+  });
+});

@@ -71,7 +71,8 @@ export interface ConductionOptions {
   /** Largest error allowed in any temperature, K. Default 0.01. */
   tolK?: number;
   /**
-   * Most series terms per evaluation for a uniform start before the early-time form takes over.
+   * Most series terms per evaluation for a uniform start before the early-time form takes over
+   * (counted over all modes, also the zero ones a symmetric slab leaves out).
    * Default 1000. A non-uniform start sums until the early-time form is accurate for it, up to 600
    * terms (4000 for a continued solution).
    */
@@ -116,7 +117,11 @@ export interface Solution {
    * bracket first: for a probe that only falls (a uniform start) the answer is the same.
    */
   reachTime(targetC: number, which: Probe, maxS?: number, near?: number): number | null;
-  /** Series terms one evaluation sums at tS (block: over all factors); 0 at t = 0 and where the early-time form is used. */
+  /**
+   * Series terms one evaluation sums at tS (block: over all factors); 0 at t = 0 and where the
+   * early-time form is used. A slab alike on both faces from a symmetric start sums its odd modes
+   * only (its even ones are zero), and counts those.
+   */
   terms(tS: number): number;
 }
 
