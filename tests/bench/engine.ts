@@ -55,6 +55,12 @@ export function benchEngine() {
   ];
   const runs: number[] = [];
   const alone: number[] = [];
+  // The first prediction in a fresh process pays for compiling the engine; a server predicts all
+  // day. The first one is reported on its own, then 20 untimed runs, then the median of 40.
+  let t1 = performance.now();
+  sink += predictBatch({ model, readings, nowS: 7200, stages, prior, alternatives }).stages[0].reachS ?? 0;
+  const firstMs = performance.now() - t1;
+  for (let i = 0; i < 20; i++) sink += predictBatch({ model, readings, nowS: 7200, stages, prior, alternatives }).stages[0].reachS ?? 0;
   for (let i = 0; i < 40; i++) {
     let t0 = performance.now();
     const p = predictBatch({ model, readings, nowS: 7200, stages, prior, alternatives });
@@ -66,6 +72,7 @@ export function benchEngine() {
   }
   line(`batch prediction: fit to 8 readings, 2 stages with bands`, `${median(alone).toFixed(2)} ms median`);
   line(`  … plus ${alternatives.length} what-ifs`, `${median(runs).toFixed(2)} ms median (target < 2 ms)`);
+  line(`  … the first one in a fresh process (compiling)`, `${firstMs.toFixed(1)} ms`);
 
   // 3. Series against the independent Crank–Nicolson solver at equal accuracy (0.01 K at the centre, 2 h).
   const exact = slab.centerC(7200);
@@ -103,7 +110,14 @@ export function benchEngine() {
   const early = 600;
   const xs = Array.from({ length: 41 }, (_, i) => (0.05 * i) / 40);
   const exactProfile = xs.map((x) => slab.temperatureAt(early, x));
+  // The whole profile in one call (temperaturesAt: each term's decay once, no allocation per point),
+  // and point by point through temperatureAt for comparison.
+  const values = new Float64Array(xs.length);
   const profileMs = timeEach(500, 400, 5, (i) => {
+    const s = solveConduction({ shape: "slab", depthM: 0.05, bottomH: 10, topH: 10 + i * 1e-9 }, { k: 0.5, alpha: 1.32e-7 }, 60, 3);
+    sink += s.temperaturesAt(early, xs, values)[20];
+  });
+  const pointwiseMs = timeEach(500, 400, 5, (i) => {
     const s = solveConduction({ shape: "slab", depthM: 0.05, bottomH: 10, topH: 10 + i * 1e-9 }, { k: 0.5, alpha: 1.32e-7 }, 60, 3);
     for (const x of xs) sink += s.temperatureAt(early, x);
   });
@@ -125,7 +139,8 @@ export function benchEngine() {
   const earlyMs = timeEach(3, 21, 1, () => {
     solveSlabNumerically({ depthM: 0.05, bottomH: 10, topH: 10, k: 0.5, alpha: 1.32e-7, ambientC: 3, initialC: () => 60, timesS: [early], cells: bestEarly.cells, maxStepS: early / bestEarly.steps });
   });
-  line(`series: build + 41-point profile at 10 min`, `${(profileMs * 1e3).toFixed(1)} µs median`);
+  line(`series: build + 41-point profile at 10 min (temperaturesAt)`, `${(profileMs * 1e3).toFixed(1)} µs median`);
+  line(`  … the same point by point (temperatureAt)`, `${(pointwiseMs * 1e3).toFixed(1)} µs median`);
   line(`Crank–Nicolson, ${bestEarly.cells} cells, ≥${bestEarly.steps} steps, every cell to ${bestEarly.error.toFixed(4)} K`, `${earlyMs.toFixed(2)} ms median`);
   line(`ratio numerical / series (profile, 10 min)`, `${(earlyMs / profileMs).toFixed(0)}× (target ≥ 100×)`);
   sink += exactProfile[0];

@@ -71,7 +71,8 @@ export interface ConductionOptions {
   /** Largest error allowed in any temperature, K. Default 0.01. */
   tolK?: number;
   /**
-   * Most series terms per evaluation for a uniform start before the early-time form takes over.
+   * Most series terms per evaluation for a uniform start before the early-time form takes over
+   * (counted over all modes, also the zero ones a symmetric slab leaves out).
    * Default 1000. A non-uniform start sums until the early-time form is accurate for it, up to 600
    * terms (4000 for a continued solution).
    */
@@ -102,12 +103,25 @@ export interface Solution {
   /** Temperatures at `points` evenly spaced depths from bottom to top (block: centre line; radial: 0 to R). */
   profile(tS: number, points?: number): { xM: number[]; c: number[] };
   /**
+   * temperatureAt(tS, x) for every depth (block: on the vertical centre line) or radius x in `atM`,
+   * in one pass: each term's decay is computed once, and the eigenfunctions at those positions are
+   * kept, so asking again at other times for the same positions costs a product per term and point.
+   * Fills and returns `out` when given (at least as long as `atM`), else a new array.
+   */
+  temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array;
+  /**
    * First time (s, to 0.5 s) at which the probe is at or below targetC; 0 if it starts there; null if
    * the ambient is not below the target or it takes longer than maxS. Brackets on a time grid, so a
-   * dip shorter than one grid step after a non-uniform start can be missed.
+   * dip shorter than one grid step after a non-uniform start can be missed. `near`, a time the answer
+   * is expected within 2 % of (the same target on a slightly different solution), is tried as the
+   * bracket first: for a probe that only falls (a uniform start) the answer is the same.
    */
-  reachTime(targetC: number, which: Probe, maxS?: number): number | null;
-  /** Series terms one evaluation sums at tS (block: over all factors); 0 at t = 0 and where the early-time form is used. */
+  reachTime(targetC: number, which: Probe, maxS?: number, near?: number): number | null;
+  /**
+   * Series terms one evaluation sums at tS (block: over all factors); 0 at t = 0 and where the
+   * early-time form is used. A slab alike on both faces from a symmetric start sums its odd modes
+   * only (its even ones are zero), and counts those.
+   */
   terms(tS: number): number;
 }
 
@@ -122,7 +136,12 @@ const MAX_TERMS_PROFILE = 600;
 // A continued solution's projection is closed-form and cheap: it may sum far longer.
 const MAX_TERMS_MODAL = 4000;
 const SERIES_PREFERRED_TERMS = 24;
+// At the centre, where the early-time form is cheap, the series is kept only up to this many terms.
+const CENTRE_SERIES_TERMS = 8;
+// Largest table of eigenfunction values a series keeps for batch evaluations (modes × positions).
+const MAX_GRID_TABLE = 1 << 16;
 const WALK_STEPS = 64;
+const BEND_BLOCK = 16;
 const FAR = 27; // erfc(27) < 1e-318: beyond η = 27 a face has not been felt
 
 // ---------------------------------------------------------------------------------------------
@@ -276,12 +295,45 @@ function maximiseOnUnit(f: (s: number) => number, samples = 16): { s: number; v:
   return { s: bestS, v: best };
 }
 
+// Scratch for batch evaluations, shared (typed arrays cost far more to allocate than a new solution's
+// whole set-up): eigenfunction values, a block's vertical factor, a profile's values.
+let rowScratch = new Float64Array(1024);
+let factorScratch = new Float64Array(64);
+let profileScratch = new Float64Array(64);
+/** The step of evenly spaced positions (to 1e-15), or 0. */
+function evenStep(s: readonly number[]): number {
+  const m = s.length;
+  if (m < 3) return 0;
+  const step = (s[m - 1] - s[0]) / (m - 1);
+  if (!(step > 0)) return 0;
+  for (let j = 1; j < m - 1; j++) if (Math.abs(s[j] - (s[0] + j * step)) > 1e-15) return 0;
+  return step;
+}
+
+const walkState = new Float64Array(4);
+
+function scratchTable(m: number): Float64Array {
+  return rowScratch.length >= m ? rowScratch : (rowScratch = new Float64Array(2 * m));
+}
+
+function scratchFactor(m: number): Float64Array {
+  return factorScratch.length >= m ? factorScratch : (factorScratch = new Float64Array(2 * m));
+}
+function scratchProfile(m: number): Float64Array {
+  return profileScratch.length >= m ? profileScratch : (profileScratch = new Float64Array(2 * m));
+}
+
 // ---------------------------------------------------------------------------------------------
 // One-dimensional series, dimensionless: position s ∈ [0, 1], Fourier number fo, excess temperature
 // (T − T∞, or θ for the factors of a block).
 
 interface Series1D {
   value(s: number, fo: number): number;
+  /**
+   * value(s[j], fo) into out[j] for j < s.length. The same array s (never changed once passed) may
+   * keep its eigenfunction values for later calls.
+   */
+  valuesAt(s: readonly number[], fo: number, out: Float64Array): void;
   centre(fo: number): number;
   mean(fo: number): number;
   terms(fo: number): number;
@@ -294,6 +346,9 @@ class ConstantSeries implements Series1D {
   value(): number {
     return this.u;
   }
+  valuesAt(s: readonly number[], _fo: number, out: Float64Array): void {
+    out.fill(this.u, 0, s.length);
+  }
   centre(): number {
     return this.u;
   }
@@ -304,7 +359,7 @@ class ConstantSeries implements Series1D {
     return 1;
   }
   state(): ModalState {
-    return { constant: this.u, zeta: [], phi: [], amp: [] };
+    return { constant: this.u, zeta: [], phi: [], amp: [], symmetric: true };
   }
 }
 
@@ -338,6 +393,12 @@ abstract class ModalSeries implements Series1D {
    * asked about later times.
    */
   protected earlyPendingU = 0;
+  /**
+   * 2 when only every other mode is excited (a slab alike on both faces from a start symmetric about
+   * its mid-plane: the odd modes; the even ones are zero and are neither found nor summed). Term
+   * counts and tail bounds stay in the full numbering; the arrays hold the excited modes only.
+   */
+  protected stride = 1;
 
   constructor(
     protected readonly tol: number,
@@ -346,6 +407,8 @@ abstract class ModalSeries implements Series1D {
 
   /** Bound on |aₙ·eigenfunction| for every n > N (N ≥ 1). */
   protected abstract ampTail(n: number): number;
+  /** Whether ampTail(n) is ampTail(1)/n (else it is constant). */
+  protected ampFalls = false;
   /** Computes mode n (0-based index i = n − 1) into the arrays. */
   protected abstract computeMode(i: number): void;
   protected abstract eigen(i: number, s: number): number;
@@ -360,7 +423,7 @@ abstract class ModalSeries implements Series1D {
     this.count = n;
   }
 
-  private tailOk(n: number, fo: number): boolean {
+  protected tailOk(n: number, fo: number): boolean {
     return this.ampTail(n) * gaussTail(n, fo) < this.tol / 10;
   }
 
@@ -369,14 +432,19 @@ abstract class ModalSeries implements Series1D {
     if (fo === this.termsFo) return this.termsN;
     let n: number;
     // Where both forms are good, a long series loses to two erfc evaluations.
-    if (fo <= this.earlyUpToFo && fo <= this.earlyLimit() && !this.tailOk(SERIES_PREFERRED_TERMS, fo)) n = 0;
-    else n = this.countTerms(fo);
+    if (fo <= this.earlyUpToFo && fo <= this.earlyLimit() && !this.tailOk(SERIES_PREFERRED_TERMS * this.stride, fo)) n = 0;
+    else n = this.stored(this.countTerms(fo));
     this.termsFo = fo;
     this.termsN = n;
     return n;
   }
 
-  private earlyLimit(): number {
+  /** Stored modes that cover the first n modes of the full numbering. */
+  protected stored(n: number): number {
+    return this.stride === 1 ? n : (n + 1) >> 1;
+  }
+
+  protected earlyLimit(): number {
     if (this.earlyPendingU !== 0) {
       this.earlyUpToFo = earlyLimitFo(this.earlyPendingU, this.tol);
       this.earlyPendingU = 0;
@@ -389,14 +457,19 @@ abstract class ModalSeries implements Series1D {
     // Closed form, no search: with K = 1/(1 − e^(−3π²Fo)) bounding the geometric factor for every N,
     // N = ⌈√(ln(A·K/lim)/(π²Fo))⌉ is enough; a second pass with the amplitude bound at that N trims
     // it, kept only if the exact test still passes.
+    // In logarithms: one exponential and one logarithm fewer. With an amplitude bound that falls as
+    // 1/n (a uniform slab), ln(A(n)·K/lim) = ln(A(1)·K/lim) − ln n; with a constant one the second
+    // pass would give n again.
     const lim = this.tol / 10;
     const c = PI2 * fo;
     const k = 1 / -Math.expm1(-3 * c);
     const a1 = this.ampTail(1);
-    if (a1 * k * Math.exp(-c) < lim) return 1;
-    let n = Math.max(2, Math.ceil(Math.sqrt(Math.log((a1 * k) / lim) / c)));
+    const logFirst = Math.log((a1 * k) / lim);
+    if (logFirst < c) return 1;
+    let n = Math.max(2, Math.ceil(Math.sqrt(logFirst / c)));
     if (n > this.cap) return this.tailOk(this.cap, fo) ? this.cap : 0;
-    const trimmed = Math.max(1, Math.ceil(Math.sqrt(Math.max(0, Math.log((this.ampTail(n) * k) / lim)) / c)));
+    if (!this.ampFalls) return n;
+    const trimmed = Math.max(1, Math.ceil(Math.sqrt(Math.max(0, logFirst - Math.log(n)) / c)));
     if (trimmed < n && this.tailOk(trimmed, fo)) n = trimmed;
     return n;
   }
@@ -421,6 +494,8 @@ abstract class ModalSeries implements Series1D {
 
   value(s: number, fo: number): number {
     if (fo === 0) return this.initial(s);
+    // The centre itself by the same rule as centre(), so that the two agree.
+    if (s === this.centreS()) return this.centre(fo);
     const n = this.terms(fo);
     if (n === 0 || (n > SERIES_PREFERRED_TERMS && this.earlyAt(s, fo))) return this.early(s, fo);
     return this.sumModes(s, n, this.decays(fo, n));
@@ -433,8 +508,93 @@ abstract class ModalSeries implements Series1D {
     return sum;
   }
 
+  valuesAt(s: readonly number[], fo: number, out: Float64Array): void {
+    const m = s.length;
+    if (fo === 0) {
+      for (let j = 0; j < m; j++) out[j] = this.initial(s[j]);
+      return;
+    }
+    const n = this.terms(fo);
+    if (n === 0) {
+      for (let j = 0; j < m; j++) out[j] = this.early(s[j], fo);
+      return;
+    }
+    const d = this.decays(fo, n);
+    const amp = this.amp;
+    out.fill(0, 0, m);
+    // The first call for these positions (or too many values to keep): the eigenfunction values in
+    // shared scratch. From the second call on for the same positions: a table the series keeps.
+    let table: Float64Array | null = null;
+    if (s === this.gridS && n * m <= MAX_GRID_TABLE) table = this.eigenTable(s, n);
+    else {
+      this.gridS = s;
+      this.gridRows = 0;
+      if (!this.addModes(s, n, d, out)) {
+        table = scratchTable(n * m);
+        this.eigenRows(s, 0, n, table);
+      }
+    }
+    // Same order of operations as a single point: Σ over modes of (amp·decay)·eigenfunction.
+    if (table) {
+      for (let i = 0; i < n; i++) {
+        const w = amp[i] * d[i];
+        const row = i * m;
+        for (let j = 0; j < m; j++) out[j] += w * table[row + j];
+      }
+    }
+    if (n > SERIES_PREFERRED_TERMS) {
+      for (let j = 0; j < m; j++) if (this.earlyAt(s[j], fo)) out[j] = this.early(s[j], fo);
+    }
+    // The centre as value() gives it: by centre()'s rule.
+    const c = this.centreS();
+    for (let j = 0; j < m; j++) if (s[j] === c) out[j] = this.centre(fo);
+  }
+
+  // Eigenfunction values at the positions last asked for (by identity), one row per mode.
+  private gridS: readonly number[] | null = null;
+  private gridTable: Float64Array | null = null;
+  private gridRows = 0;
+
+  private eigenTable(s: readonly number[], n: number): Float64Array {
+    const m = s.length;
+    let t = this.gridTable;
+    if (n > this.gridRows) {
+      if (!t || t.length < n * m) {
+        const grown = new Float64Array(Math.max(n, 2 * this.gridRows, 4) * m);
+        if (t && this.gridRows > 0) grown.set(t.subarray(0, this.gridRows * m));
+        t = this.gridTable = grown;
+      }
+      this.eigenRows(s, this.gridRows, n, t);
+      this.gridRows = n;
+    }
+    return t!;
+  }
+
+  /**
+   * out[j] += (amp·decay)·eigenfunction at s[j] for the first n modes, mode by mode, without keeping
+   * the values (a first call for these positions); false where the series has no such shortcut.
+   */
+  protected addModes(_s: readonly number[], _n: number, _d: number[], _out: Float64Array): boolean {
+    return false;
+  }
+
+  /** Eigenfunction values of modes from ≤ i < to at the positions s, mode i into row i of t. */
+  protected eigenRows(s: readonly number[], from: number, to: number, t: Float64Array): void {
+    const m = s.length;
+    for (let i = from; i < to; i++) {
+      const row = i * m;
+      for (let j = 0; j < m; j++) t[row + j] = this.eigen(i, s[j]);
+    }
+  }
+
   centre(fo: number): number {
     if (fo === 0) return this.initial(0.5);
+    // At the centre the early-time form costs one or two face responses (nothing where neither face
+    // has been felt yet): wherever it is exact to tol/10, it beats all but a short series, whose
+    // modes would first have to be found.
+    if (fo <= this.earlyUpToFo && fo <= this.earlyLimit() && !this.tailOk(CENTRE_SERIES_TERMS * this.stride, fo)) {
+      return this.early(this.centreS(), fo);
+    }
     const n = this.terms(fo);
     if (n === 0 || (n > SERIES_PREFERRED_TERMS && this.earlyAt(this.centreS(), fo))) {
       return this.early(this.centreS(), fo);
@@ -503,6 +663,8 @@ interface ModalState {
   zeta: number[];
   phi: number[];
   amp: number[];
+  /** Every mode symmetric about the mid-plane (from a slab alike on both faces). */
+  symmetric?: boolean;
 }
 
 /**
@@ -545,12 +707,12 @@ function cosIntegral(c: number, d: number): number {
  */
 class SlabSeries extends ModalSeries {
   private readonly phi: number[] = [];
-  private levels: QuadratureLevel[] = [];
+  private levels: QuadratureLevel[] | null = null; // a profile start's quadratures, made on first use
   private l1 = 0;
   private startMean = 0;
   private pointwise = false;
   private ends: { x0: Float64Array; dx0: Float64Array; x1: Float64Array; dx1: Float64Array } | null = null;
-  private bends: Float64Array[] | null = null; // range-maximum table of |u''| on a grid
+  private bends: Float64Array[] | null = null; // |u''| on a grid, and its maxima by blocks
   private bendGrid = 512;
 
   constructor(
@@ -564,6 +726,8 @@ class SlabSeries extends ModalSeries {
     // A profile keeps summing until the early-time form is accurate for it; a projection by quadrature
     // costs one pass over the nodes per term, so it stops sooner.
     super(tol, start.kind === "uniform" ? cap : start.modes ? MAX_TERMS_MODAL : MAX_TERMS_PROFILE);
+    if (b0 === b1 && (start.kind === "uniform" || start.modes?.symmetric === true)) this.stride = 2;
+    this.ampFalls = start.kind === "uniform";
     if (start.kind === "uniform") {
       if (!preferSeries) {
         const ceiling = earlyLimitCeilingFo(start.u, tol);
@@ -651,22 +815,27 @@ class SlabSeries extends ModalSeries {
         base[0] = base[1];
         base[grid] = base[grid - 1];
       }
-      const levels = [base];
-      for (let w = 1; 2 * w <= grid + 1; w *= 2) {
-        const prev = levels[levels.length - 1];
-        const next = new Float64Array(grid + 1);
-        for (let j = 0; j + 2 * w <= grid + 1; j++) next[j] = Math.max(prev[j], prev[j + w]);
-        levels.push(next);
+      // Maxima of blocks of BEND_BLOCK grid points: a range's maximum is a scan of a few blocks
+      // and the points at either end (one small array instead of a table per power of two).
+      const blocks = new Float64Array(Math.ceil((grid + 1) / BEND_BLOCK));
+      for (let j = 0; j <= grid; j++) {
+        const q = Math.floor(j / BEND_BLOCK);
+        if (base[j] > blocks[q]) blocks[q] = base[j];
       }
-      this.bends = levels;
+      this.bends = [base, blocks];
     }
     // One grid cell of margin on each side: a bend between grid points is seen by its neighbours.
     const grid = this.bendGrid;
     const lo = Math.max(0, Math.floor(a * grid) - 1);
     const hi = Math.min(grid, Math.ceil(b * grid) + 1);
-    const k = Math.floor(Math.log2(hi - lo + 1));
-    const t = this.bends[k];
-    return Math.max(t[lo], t[hi - (1 << k) + 1]);
+    const base = this.bends[0];
+    const blocks = this.bends[1];
+    let most = 0;
+    let j = lo;
+    for (; j <= hi && j % BEND_BLOCK !== 0; j++) most = Math.max(most, base[j]);
+    for (; j + BEND_BLOCK - 1 <= hi; j += BEND_BLOCK) most = Math.max(most, blocks[j / BEND_BLOCK]);
+    for (; j <= hi; j++) most = Math.max(most, base[j]);
+    return most;
   }
 
   // amp·X and amp·X' of each mode of the start at ξ = 0 and ξ = 1.
@@ -703,9 +872,10 @@ class SlabSeries extends ModalSeries {
   private level(panelsWanted: number): QuadratureLevel {
     const start = this.start;
     if (start.kind !== "profile") throw new Error("uniform start has no quadrature");
-    for (const l of this.levels) if (l.panels >= panelsWanted) return l;
+    const levels = (this.levels ??= []);
+    for (const l of levels) if (l.panels >= panelsWanted) return l;
     const seg = start.segments;
-    let panels = Math.max(panelsWanted, this.levels.length ? 2 * this.levels[this.levels.length - 1].panels : 0);
+    let panels = Math.max(panelsWanted, levels.length ? 2 * levels[levels.length - 1].panels : 0);
     if (seg > 0) panels = seg * Math.ceil(panels / seg);
     const nodes = new Float64Array(panels * 8);
     const weightedU = new Float64Array(panels * 8);
@@ -719,14 +889,27 @@ class SlabSeries extends ModalSeries {
       }
     }
     const l = { panels, nodes, weightedU };
-    this.levels.push(l);
+    levels.push(l);
     return l;
   }
 
   protected computeMode(i: number): void {
-    const n = i + 1;
-    const z = i === 0 ? slabRoot(this.b0, this.b1, 1) : nextSlabRoot(this.b0, this.b1, n, this.zeta[i - 1]);
-    const phi0 = z === 0 ? 0.5 * PI : facePhase(z, this.b0);
+    let n: number;
+    let z: number;
+    let phi0: number;
+    if (this.stride === 2) {
+      // Mode n = 2i + 1 of the slab alike on both faces is mode i + 1 of its half, insulated at the
+      // mid-plane with Biot number b/2 on the half depth: ζ = 2λ, and ζ + 2φ = nπ gives the phase.
+      n = 2 * i + 1;
+      const bh = 0.5 * this.b0;
+      const lambda = i === 0 ? slabRoot(0, bh, 1) : nextSlabRoot(0, bh, i + 1, 0.5 * this.zeta[i - 1]);
+      z = 2 * lambda;
+      phi0 = 0.5 * (n * PI - z);
+    } else {
+      n = i + 1;
+      z = i === 0 ? slabRoot(this.b0, this.b1, 1) : nextSlabRoot(this.b0, this.b1, n, this.zeta[i - 1]);
+      phi0 = z === 0 ? 0.5 * PI : facePhase(z, this.b0);
+    }
     const norm = z === 0 ? 1 : 0.5 + (sin2Phase(z, this.b0) + sin2Phase(z, this.b1)) / (4 * z);
     // ∫₀¹ Xₙ dξ = [cos φ0 − (−1)ⁿ cos φ1] / ζₙ, since ζₙ + φ0 = nπ − φ1.
     const sign = n % 2 === 0 ? -1 : 1;
@@ -766,12 +949,123 @@ class SlabSeries extends ModalSeries {
     this.zeta[i] = z;
     this.phi[i] = phi0;
     this.amp[i] = a;
-    this.ampCentre[i] = a * Math.sin(0.5 * z + phi0);
+    // A symmetric mode at the mid-plane: sin(nπ/2) = ±1.
+    this.ampCentre[i] = this.stride === 2 ? (i % 2 === 0 ? a : -a) : a * Math.sin(0.5 * z + phi0);
     this.ampMean[i] = a * meanX;
   }
 
   protected eigen(i: number, s: number): number {
     return Math.sin(this.zeta[i] * s + this.phi[i]);
+  }
+
+  // Evenly spaced positions (a profile): sin((j + 1)θ + α) = 2cos θ·sin(jθ + α) − sin((j − 1)θ + α)
+  // with θ = ζ·Δξ, a product and a difference per point, from fresh sines every WALK_STEPS points
+  // (the recurrence's rounding grows at most with the square of the steps: below 1e-12 of the
+  // amplitude there). At the bottom face the angle is φ0 itself: sine and cosine ζ/√(ζ² + B²) and
+  // B/√(ζ² + B²), no trigonometric call.
+  protected eigenRows(s: readonly number[], from: number, to: number, t: Float64Array): void {
+    const m = s.length;
+    const step = evenStep(s);
+    for (let i = from; i < to; i++) {
+      if (step > 0) this.walkMode(i, s, step, t, i * m, 0, null);
+      else {
+        const row = i * m;
+        const zi = this.zeta[i];
+        const pi = this.phi[i];
+        for (let j = 0; j < m; j++) t[row + j] = Math.sin(zi * s[j] + pi);
+      }
+    }
+  }
+
+  protected addModes(s: readonly number[], n: number, d: number[], out: Float64Array): boolean {
+    const step = evenStep(s);
+    if (!(step > 0)) return false;
+    let i = 0;
+    for (; i + 1 < n; i += 2) this.walkPair(i, s, step, this.amp[i] * d[i], this.amp[i + 1] * d[i + 1], out);
+    if (i < n) this.walkMode(i, s, step, out, 0, this.amp[i] * d[i], out);
+    return true;
+  }
+
+  // Mode i along evenly spaced positions: its values into t from `row` on, or (with `add`) w times
+  // its values added to `add`.
+  private walkMode(i: number, s: readonly number[], step: number, t: Float64Array, row: number, w: number, add: Float64Array | null): void {
+    const m = s.length;
+    const th = this.zeta[i] * step;
+    const c = Math.cos(th);
+    const sth = Math.sin(th);
+    const c2 = 2 * c;
+    for (let j0 = 0; j0 < m; j0 += WALK_STEPS) {
+      this.walkStart(i, s, j0, c, sth, 0);
+      let here = walkState[0];
+      let prev = walkState[1];
+      const end = Math.min(m, j0 + WALK_STEPS);
+      if (add) {
+        for (let j = j0; j < end; j++) {
+          add[j] += w * here;
+          const next = c2 * here - prev;
+          prev = here;
+          here = next;
+        }
+      } else {
+        for (let j = j0; j < end; j++) {
+          t[row + j] = here;
+          const next = c2 * here - prev;
+          prev = here;
+          here = next;
+        }
+      }
+    }
+  }
+
+  // Modes i and i + 1 side by side (two independent recurrences keep the processor busy), w0 and w1
+  // times their values added to `add`, mode i first at every point as one mode at a time would.
+  private walkPair(i: number, s: readonly number[], step: number, w0: number, w1: number, add: Float64Array): void {
+    const m = s.length;
+    const th0 = this.zeta[i] * step;
+    const th1 = this.zeta[i + 1] * step;
+    const cos0 = Math.cos(th0);
+    const cos1 = Math.cos(th1);
+    const sin0 = Math.sin(th0);
+    const sin1 = Math.sin(th1);
+    const c0 = 2 * cos0;
+    const c1 = 2 * cos1;
+    for (let j0 = 0; j0 < m; j0 += WALK_STEPS) {
+      this.walkStart(i, s, j0, cos0, sin0, 0);
+      this.walkStart(i + 1, s, j0, cos1, sin1, 2);
+      let h0 = walkState[0];
+      let p0 = walkState[1];
+      let h1 = walkState[2];
+      let p1 = walkState[3];
+      const end = Math.min(m, j0 + WALK_STEPS);
+      for (let j = j0; j < end; j++) {
+        add[j] = add[j] + w0 * h0 + w1 * h1;
+        const n0 = c0 * h0 - p0;
+        const n1 = c1 * h1 - p1;
+        p0 = h0;
+        h0 = n0;
+        p1 = h1;
+        h1 = n1;
+      }
+    }
+  }
+
+  // sin α and sin(α − θ) of mode i at s[j0] into walkState[k], walkState[k + 1] (cos θ, sin θ given).
+  private walkStart(i: number, s: readonly number[], j0: number, cosTh: number, sinTh: number, k: number): void {
+    const zi = this.zeta[i];
+    const b0 = this.b0;
+    let here: number;
+    let cosHere: number;
+    if (j0 === 0 && s[0] === 0 && b0 > 0 && b0 < Infinity && zi > 0) {
+      const r = 1 / Math.sqrt(zi * zi + b0 * b0);
+      here = zi * r;
+      cosHere = b0 * r;
+    } else {
+      const angle = zi * s[j0] + this.phi[i];
+      here = Math.sin(angle);
+      cosHere = Math.cos(angle);
+    }
+    walkState[k] = here;
+    walkState[k + 1] = here * cosTh - cosHere * sinTh;
   }
 
   // Points asked in even steps (a profile, a sampled search) share their sines: past the first two
@@ -843,8 +1137,8 @@ class SlabSeries extends ModalSeries {
 
   /** The series at fo, truncated where its tail is below tol/10; null past the term cap. */
   state(fo: number): ModalState | null {
-    if (fo === 0) return this.start.kind === "uniform" ? { constant: this.start.u, zeta: [], phi: [], amp: [] } : null;
-    const n = this.countTerms(fo);
+    if (fo === 0) return this.start.kind === "uniform" ? { constant: this.start.u, zeta: [], phi: [], amp: [], symmetric: true } : null;
+    const n = this.stored(this.countTerms(fo));
     if (n === 0) return null;
     const d = this.decays(fo, n);
     return {
@@ -852,6 +1146,7 @@ class SlabSeries extends ModalSeries {
       zeta: this.zeta.slice(0, n),
       phi: this.phi.slice(0, n),
       amp: this.amp.slice(0, n).map((a, i) => a * d[i]),
+      symmetric: this.stride === 2,
     };
   }
 
@@ -1001,34 +1296,90 @@ abstract class BaseSolution implements Solution {
     const n = Math.max(2, Math.floor(points));
     const len = this.extentM();
     const xM: number[] = [];
-    const c: number[] = [];
-    for (let i = 0; i < n; i++) {
-      const x = (len * i) / (n - 1);
-      xM.push(x);
-      c.push(this.lineC(tS, x));
-    }
-    return { xM, c };
+    for (let i = 0; i < n; i++) xM.push((len * i) / (n - 1));
+    const c = this.temperaturesAt(tS, xM, scratchProfile(n));
+    const out: number[] = [];
+    for (let i = 0; i < n; i++) out.push(c[i]);
+    return { xM, c: out };
   }
 
-  reachTime(targetC: number, which: Probe, maxS = 48 * 3600): number | null {
-    const probe =
-      which === "center"
-        ? (t: number) => this.centerC(t)
-        : which === "mean"
-          ? (t: number) => this.meanC(t)
-          : (t: number) => this.warmestC(t);
-    const g = (t: number) => probe(t) - targetC;
-    if (g(0) <= 0) return 0;
+
+  // Positions on the unit length for a batch evaluation, kept between calls for the same positions
+  // (the series keep their eigenfunction values for them).
+  private lastAt: number[] | null = null;
+  private lastUnit: number[] | null = null;
+  protected unitPositions(atM: ArrayLike<number>): readonly number[] {
+    const m = atM.length;
+    const len = this.extentM();
+    const last = this.lastAt;
+    let same = last !== null && last.length === m;
+    for (let j = 0; same && j < m; j++) same = last![j] === atM[j];
+    if (!same || !this.lastUnit) {
+      const at: number[] = Array.prototype.slice.call(atM);
+      const u = at.slice();
+      for (let j = 0; j < m; j++) u[j] = Math.min(1, Math.max(0, u[j] / len));
+      this.lastAt = at;
+      this.lastUnit = u;
+    }
+    return this.lastUnit;
+  }
+
+  abstract temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array;
+
+  /** temperaturesAt for a body with one series along its depth or radius. */
+  protected alongSeries(series: Series1D, foPerS: number, tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array {
+    checkTime(tS);
+    const m = atM.length;
+    const res = out ?? new Float64Array(m);
+    series.valuesAt(this.unitPositions(atM), tS * foPerS, res);
+    const a = this.ambientC;
+    for (let j = 0; j < m; j++) res[j] = a + res[j];
+    return res;
+  }
+
+  reachTime(targetC: number, which: Probe, maxS = 48 * 3600, near?: number): number | null {
+    const g = (t: number) => this.probeC(which, t) - targetC;
+    const g0 = g(0);
+    if (g0 <= 0) return 0;
     if (this.ambientC >= targetC) return null;
+    if (near !== undefined && near > 0 && 1.02 * near < maxS) {
+      const lo = 0.98 * near;
+      const hi = 1.02 * near;
+      const fa = g(lo);
+      if (fa > 0) {
+        const fb = g(hi);
+        if (fb <= 0) return findRootBrent(g, lo, hi, 0.5, { fa, fb });
+      }
+    }
     let tPrev = 0;
+    let fPrev = g0;
     // Grid from Fo = 0.001 (where a few tens of terms suffice), doubling: a cooling core falls
-    // monotonically, so the grid only brackets the crossing for Brent; it need not be fine.
-    for (let t = 1e-3 * this.timeScaleS(); tPrev < maxS; t *= 2) {
+    // monotonically, so the grid only brackets the crossing for Brent; it need not be fine. The
+    // grid's values are kept per probe: the next target on this solution walks the same grid.
+    let k = 0;
+    for (let t = 1e-3 * this.timeScaleS(); tPrev < maxS; t *= 2, k++) {
       const tNow = Math.min(t, maxS);
-      if (g(tNow) <= 0) return findRootBrent(g, tPrev, tNow, 0.5);
+      const v = (tNow === t ? this.gridC(which, k, t) : this.probeC(which, tNow)) - targetC;
+      if (v <= 0) return findRootBrent(g, tPrev, tNow, 0.5, { fa: fPrev, fb: v });
       tPrev = tNow;
+      fPrev = v;
     }
     return null;
+  }
+
+  private probeC(which: Probe, tS: number): number {
+    return which === "center" ? this.centerC(tS) : which === "mean" ? this.meanC(tS) : this.warmestC(tS);
+  }
+
+  // Probe values on reachTime's grid, by probe: k-th point at 0.001 × 2^k time scales.
+  private gridValues: Partial<Record<Probe, number[]>> | null = null;
+  private gridC(which: Probe, k: number, tS: number): number {
+    const memo = (this.gridValues ??= {});
+    const values = (memo[which] ??= []);
+    if (k < values.length) return values[k];
+    const v = this.probeC(which, tS);
+    if (k === values.length) values.push(v);
+    return v;
   }
 }
 
@@ -1060,6 +1411,10 @@ class SlabSolution extends BaseSolution {
 
   protected lineC(tS: number, xM: number): number {
     return this.ambientC + this.series.value(xM / this.depthM, tS * this.foPerS);
+  }
+
+  temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array {
+    return this.alongSeries(this.series, this.foPerS, tS, atM, out);
   }
 
   temperatureAt(tS: number, at: number | BlockPoint): number {
@@ -1120,6 +1475,10 @@ class RadialSolution extends BaseSolution {
 
   protected lineC(tS: number, rM: number): number {
     return this.ambientC + this.series.value(Math.min(1, Math.max(0, rM / this.radiusM)), tS * this.foPerS);
+  }
+
+  temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array {
+    return this.alongSeries(this.series, this.foPerS, tS, atM, out);
   }
 
   temperatureAt(tS: number, at: number | BlockPoint): number {
@@ -1195,8 +1554,36 @@ class BlockSolution extends BaseSolution {
     return 1 / Math.max(...this.foPerS);
   }
 
+  // On the vertical centre line the two wall factors are at their centres.
   protected lineC(tS: number, zM: number): number {
-    return this.at3(tS, 0.5, 0.5, Math.min(1, Math.max(0, zM / this.dims[2])));
+    const [fx, fy, fz] = this.foPerS;
+    const sz = Math.min(1, Math.max(0, zM / this.dims[2]));
+    let sum = 0;
+    for (const p of this.products) {
+      const [x, y, z] = p.factors;
+      sum += p.amplitude * x.centre(tS * fx) * y.centre(tS * fy) * z.value(sz, tS * fz);
+    }
+    return this.ambientC + sum;
+  }
+
+  temperaturesAt(tS: number, atM: ArrayLike<number>, out?: Float64Array): Float64Array {
+    checkTime(tS);
+    const m = atM.length;
+    const res = out ?? new Float64Array(m);
+    const s = this.unitPositions(atM);
+    const f = this.foPerS;
+    const tmp = scratchFactor(m);
+    res.fill(0, 0, m);
+    for (const p of this.products) {
+      // The two wall factors at the centre line, then the vertical factor at every depth; the same
+      // order of products as one point.
+      const k = p.amplitude * p.factors[0].centre(tS * f[0]) * p.factors[1].centre(tS * f[1]);
+      p.factors[2].valuesAt(s, tS * f[2], tmp);
+      for (let j = 0; j < m; j++) res[j] += k * tmp[j];
+    }
+    const a = this.ambientC;
+    for (let j = 0; j < m; j++) res[j] = a + res[j];
+    return res;
   }
 
   temperatureAt(tS: number, at: number | BlockPoint): number {

@@ -76,18 +76,20 @@ const WHAT_IF_ACCURACY = { tolK: 0.05, maxTerms: 80 };
 /** A floor on the spread of predicted times for what the model leaves out (common practice: ±5 %). */
 const MODEL_SD_LN_T = 0.05;
 
-type Reacher = (targetC: number) => number | null;
+/** Reach time of a target; `near` (optional) a time the answer is expected within 2 % of. */
+type Reacher = (targetC: number, near?: number) => number | null;
 
 /**
  * Spread of ln(reach time) from the covariance of (ln s, ln f) by first-order propagation, with the
  * model floor added in quadrature.
  */
-function band(reach: (lnS: number, lnF: number) => number | null, lnS: number, lnF: number, cov: Calibration["cov"]) {
+function band(reach: (lnS: number, lnF: number, near?: number) => number | null, lnS: number, lnF: number, cov: Calibration["cov"]) {
   const t0 = reach(lnS, lnF);
   if (t0 === null || t0 <= 0) return { t: t0, sd: MODEL_SD_LN_T };
   const d = 0.02;
-  const dS = reach(lnS + d, lnF);
-  const dF = reach(lnS, lnF + d);
+  // A 2 % step in ln s or ln f moves the time by about 2 % at most: the search starts there.
+  const dS = reach(lnS + d, lnF, t0);
+  const dF = reach(lnS, lnF + d, t0);
   const gS = dS === null ? 0 : (Math.log(dS) - Math.log(t0)) / d;
   const gF = dF === null ? 0 : (Math.log(dF) - Math.log(t0)) / d;
   const variance = gS * gS * cov[0][0] + 2 * gS * gF * cov[0][1] + gF * gF * cov[1][1];
@@ -107,8 +109,8 @@ function stagePredictions(
 ): StagePrediction[] {
   return targets.map((stage, i) => {
     const metByReading = stage.metAtS != null;
-    const reach = (a: number, c: number) => {
-      const t = reachFor(a, c)(stage.targetC);
+    const reach = (a: number, c: number, near?: number) => {
+      const t = reachFor(a, c)(stage.targetC, near === undefined ? undefined : near - offsetS);
       return t === null ? null : t + offsetS;
     };
     const b = spread ? { t: reach(lnS, lnF), sd: spread[i] } : band(reach, lnS, lnF, cov);
@@ -148,9 +150,9 @@ export function verdictOf(stages: StagePrediction[]): Verdict {
 }
 
 /** Time after `fromS` at which a solution (with its own clock) first reaches the target at the core. */
-const reachAfter = (sol: Solution, fromS: number, targetC: number) => {
+const reachAfter = (sol: Solution, fromS: number, targetC: number, near?: number) => {
   if (sol.centerC(fromS) <= targetC) return fromS;
-  const t = sol.reachTime(targetC, "center", HORIZON_S);
+  const t = sol.reachTime(targetC, "center", HORIZON_S, near);
   return t === null ? null : t;
 };
 
@@ -183,7 +185,7 @@ export function predictBatch(input: PredictInput): BatchPrediction {
     }
     return s;
   };
-  const stages = stagePredictions(targets, (a, c) => (target) => reachAfter(solFor(a, c), 0, target), lnS, lnF, cal.cov, 0, input.nowS);
+  const stages = stagePredictions(targets, (a, c) => (target, near) => reachAfter(solFor(a, c), 0, target, near), lnS, lnF, cal.cov, 0, input.nowS);
   const nowS = Math.max(0, input.nowS);
   const sol = cal.solution;
 

@@ -70,9 +70,16 @@ export function findRootNewton(
  * Root of f in [a, b] (f(a), f(b) of opposite signs or zero) by Brent's method (inverse quadratic
  * interpolation, secant and bisection), to within xTol.
  */
-export function findRootBrent(f: (x: number) => number, a: number, b: number, xTol = 1e-12): number {
-  let fa = f(a);
-  let fb = f(b);
+export function findRootBrent(
+  f: (x: number) => number,
+  a: number,
+  b: number,
+  xTol = 1e-12,
+  /** f(a) and f(b) when the caller already has them. */
+  known?: { fa: number; fb: number },
+): number {
+  let fa = known ? known.fa : f(a);
+  let fb = known ? known.fb : f(b);
   if (fa === 0) return a;
   if (fb === 0) return b;
   if (fa * fb > 0) throw new RangeError(`no sign change in [${a}, ${b}]`);
