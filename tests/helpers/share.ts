@@ -28,8 +28,9 @@ export async function sharedKitchen() {
   const cook = await signedIn(t.people.cook.email, t.people.cook.password);
   const photoId = await uploadPhoto(cook);
   const lot = `IN-${randomUUID().slice(0, 4)}`;
+  const startedAt = minutesAgo(200);
   const start = await cook.request("/api/v1/batches", {
-    json: { clientId: randomUUID(), productId: t.product.id, lotCode: lot, pan: { size: "gn-1/1", depthMm: 65, count: 1, fillDepthMm: 50 }, method: "walk-in", start: { value: 150, unit: "F", takenAt: minutesAgo(200).toISOString() } },
+    json: { clientId: randomUUID(), productId: t.product.id, lotCode: lot, pan: { size: "gn-1/1", depthMm: 65, count: 1, fillDepthMm: 50 }, method: "walk-in", start: { value: 150, unit: "F", takenAt: startedAt.toISOString() } },
   });
   if (start.status !== 201) throw new Error(`batch start answered ${start.status}`);
   const batch = ((await start.json()) as { batch: { id: string } }).batch;
@@ -47,7 +48,7 @@ export async function sharedKitchen() {
   await db.insert(readings).values({ batchId: old.id, siteId: t.site.id, clientId: randomUUID(), valueEntered: 40, unitEntered: "F", valueC: 4.4, takenAt: new Date(Date.now() - 10 * DAY + 3600_000), late: false, source: "api", photoId: oldPhotoId });
   const now = Date.now();
   const range = { from: localDateOf(now - DAY, ZONE), to: localDateOf(now, ZONE) };
-  return { t, cook, batch: { id: batch.id, lot, photoId }, old: { id: old.id, lot: oldLot, photoId: oldPhotoId }, range };
+  return { t, cook, batch: { id: batch.id, lot, photoId, startedAt: startedAt.getTime() }, old: { id: old.id, lot: oldLot, photoId: oldPhotoId }, range };
 }
 
 /** Makes a share link through the sharing screen, as QA does; the full link is read from the answer. */

@@ -3,6 +3,7 @@ import { and, asc, count, eq, inArray } from "drizzle-orm";
 import ExcelJS from "exceljs";
 import { beforeAll, describe, expect, it } from "vitest";
 import { auditEvents, batches, correctiveActions, readings, shareLinks, shareLinkUses, verifications } from "~db/schema";
+import { localDateOf } from "~/lib/records-export";
 import { Client, signedIn } from "../helpers/client";
 import { db, newTenant } from "../helpers/db";
 import { linkIn, waitForMail } from "../helpers/maildev";
@@ -176,7 +177,9 @@ describe("share links", () => {
       wb.getWorksheet("Batches")!.eachRow((row) => lots.push(row.getCell(1).value));
       expect(lots).toContain(k.batch.lot);
       expect(lots).not.toContain(k.old.lot);
-      const csv = await stranger.get(`/shared/${token}/export.csv?sheet=readings&from=${k.range.to}&to=${k.range.to}`);
+      // A part of the range: the day the batch started, on the site's clock (it may be yesterday just after midnight).
+      const day = localDateOf(k.batch.startedAt, k.t.site.timeZone);
+      const csv = await stranger.get(`/shared/${token}/export.csv?sheet=readings&from=${day}&to=${day}`);
       expect(csv.status).toBe(200);
       expect(await csv.text()).toContain(k.batch.lot);
       const [audit] = await db.select().from(auditEvents).where(and(eq(auditEvents.siteId, k.t.site.id), eq(auditEvents.action, "records.exported"))).orderBy(asc(auditEvents.id));
