@@ -7,6 +7,7 @@ import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
 import { getRuleSet } from "~/lib/rule-sets";
 import { toCelsius } from "~/lib/temperature";
 import { alertsAfterEntry } from "./alerts.server";
+import { assessWithReuse } from "./assessment-cache.server";
 import { recordAudit, type Actor } from "./audit.server";
 import { db } from "./db.server";
 
@@ -330,7 +331,7 @@ export async function assess(site: Site, batchId: string, now = Date.now()): Pro
   if (!row) return null;
   const rows = await db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt));
   const moves = await db.select({ takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method")));
-  return assessRows(site, row, rows, now, moves.length ? Math.max(...moves.map((m) => m.takenAt.getTime())) : undefined);
+  return assessRows(site, row, rows, now, moves.length ? Math.max(...moves.map((m) => m.takenAt.getTime())) : undefined, true);
 }
 
 export type BatchRow = {
@@ -341,8 +342,17 @@ export type BatchRow = {
   learnedBatches: number | null;
 };
 
-function assessRows(site: Site, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt?: number) {
-  return assessBatch(assessInput(site, row, rows, now, movedAt));
+function assessRows(site: Site, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt: number | undefined, fresh: boolean) {
+  return assessWithReuse(row.batch.id, recordKey(site, row, rows, movedAt), now, fresh, () => assessBatch(assessInput(site, row, rows, now, movedAt)));
+}
+
+/** Every part of a batch's record that `assessInput` reads, in one string (the clock aside): keep the two in step. */
+function recordKey(site: Pick<Site, "temperatureUnit">, row: BatchRow, rows: (typeof readings.$inferSelect)[], movedAt: number | undefined) {
+  const b = row.batch;
+  const parts: unknown[] = [site.temperatureUnit, b.ruleSetCode, getRuleSet(b.ruleSetCode)?.version, b.startedAt.getTime(), b.panSize, b.panLengthMm, b.panWidthMm, b.panDepthMm, b.fillDepthMm, b.panMaterial, b.lid, b.method];
+  parts.push(JSON.stringify(b.composition ?? row.product.composition), row.learnedLnS, row.learnedSd, row.learnedBatches, movedAt);
+  for (const r of rows) parts.push(r.id, r.takenAt.getTime(), r.receivedAt.getTime(), r.valueEntered, r.unitEntered, r.valueC, r.kind, r.correctsReadingId);
+  return parts.join("|");
 }
 
 /**
@@ -353,6 +363,7 @@ export function evaluateRows(site: Pick<Site, "temperatureUnit">, row: BatchRow,
   return evaluateRecord(assessInput(site, row, rows, now)).evaluation;
 }
 
+// What this reads of the record, `recordKey` must name too (the live view reuses assessments by it).
 function assessInput(site: Pick<Site, "temperatureUnit">, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt?: number): AssessInput {
   const { batch, product } = row;
   const counted = effectiveReadings(rows);
@@ -470,8 +481,12 @@ async function learnFromBatch(tx: Parameters<Parameters<typeof db.transaction>[0
   await recordAudit(tx, { actor: { kind: "system", label: "equipment learning" }, organisationId: site.organisationId, siteId: site.id, action: "equipment.learned", entity: "equipment", entityId: eqp.id, data: { batchId, lnS: x, mean, sd, batches: n } });
 }
 
-/** Active batches of some sites, each with its current assessment (for the API and the live view). */
-export async function listActive(siteRows: Site[], now = Date.now()) {
+/**
+ * Active batches of some sites, each with its current assessment (for the API and the live view). An
+ * assessment of the same record a few seconds old is reused (see assessment-cache.server.ts) unless
+ * `fresh`: the alert sweep asks for fresh ones, and leaves them for the next readers.
+ */
+export async function listActive(siteRows: Site[], now = Date.now(), options: { fresh?: boolean } = {}) {
   if (siteRows.length === 0) return [];
   const ids = siteRows.map((s) => s.id);
   const rows = await db
@@ -486,10 +501,18 @@ export async function listActive(siteRows: Site[], now = Date.now()) {
   const moves = rows.length
     ? await db.select({ batchId: correctiveActions.batchId, takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(inArray(correctiveActions.batchId, ids2), eq(correctiveActions.kind, "change_method")))
     : [];
+  const siteById = new Map(siteRows.map((s) => [s.id, s]));
+  const readingsOf = new Map<string, (typeof readings.$inferSelect)[]>();
+  // Grouped in one pass, each batch's readings stay in taken-at order.
+  for (const r of all) {
+    const list = readingsOf.get(r.batchId);
+    if (list) list.push(r);
+    else readingsOf.set(r.batchId, [r]);
+  }
+  const movedAt = new Map<string, number>();
+  for (const m of moves) movedAt.set(m.batchId, Math.max(movedAt.get(m.batchId) ?? -Infinity, m.takenAt.getTime()));
   return rows.map((row) => {
-    const site = siteRows.find((s) => s.id === row.batch.siteId)!;
-    const mine = all.filter((r) => r.batchId === row.batch.id);
-    const moved = moves.filter((m) => m.batchId === row.batch.id).map((m) => m.takenAt.getTime());
-    return { ...row, readings: mine, assessment: assessRows(site, row, mine, now, moved.length ? Math.max(...moved) : undefined) };
+    const mine = readingsOf.get(row.batch.id) ?? [];
+    return { ...row, readings: mine, assessment: assessRows(siteById.get(row.batch.siteId)!, row, mine, now, movedAt.get(row.batch.id), options.fresh ?? false) };
   });
 }
