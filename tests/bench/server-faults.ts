@@ -34,7 +34,7 @@ const retryable = (status: number) => status >= 500 || status === 408 || status 
 async function runTablets(k: Kitchen, prefix: string, o: FaultOptions, fault: () => Promise<{ start: number; end: number }>) {
   const start = Date.now();
   const stopMaking = start + o.seconds * 1000;
-  const hardDeadline = stopMaking + 90_000;
+  const hardDeadline = stopMaking + 60_000;
   const queues: Entry[][] = Array.from({ length: o.tablets }, () => []);
   const attempts: Attempt[] = [];
   const acked = new Set<string>();
@@ -159,7 +159,7 @@ export async function runFaults(app: AppProcess, k: Kitchen, o: FaultOptions): P
       return { start, end: Date.now() };
     });
     const same = app.pid === pid && app.exits.length === exitsBefore;
-    const after = same ? `same app process (pid ${pid}); ${await answersAgain(k, "fault-pg-after")}` : `the app process exited (${JSON.stringify(app.exits.slice(exitsBefore))})`;
+    const after = same ? `same app process (pid ${pid}); ${await answersAgain(k, "after-fault-pg")}` : `the app process exited (${JSON.stringify(app.exits.slice(exitsBefore))})`;
     const check = await storedOnce("fault-pg", run.entries, run.acked);
     reports.push({ fault: "PostgreSQL restart (pg_ctl -m fast)", entries: run.entries.length, sent: run.sent, acked: run.acked.size, retried: run.retried, errors: run.errors, rejected: run.rejected, gaveUp: run.gaveUp, ...check, faultMs: run.window.end - run.window.start, recoveryMs: run.recoveryMs, disruptedMs: run.disruptedMs, after });
     if (!same) await app.start();
@@ -174,7 +174,7 @@ export async function runFaults(app: AppProcess, k: Kitchen, o: FaultOptions): P
       return { start, end: Date.now() };
     });
     await waitForHealth(10_000);
-    const after = `restarted app (pid ${app.pid}); ${await answersAgain(k, "fault-kill-after")}`;
+    const after = `restarted app (pid ${app.pid}); ${await answersAgain(k, "after-fault-kill")}`;
     const check = await storedOnce("fault-kill", run.entries, run.acked);
     reports.push({ fault: "app killed (SIGKILL), started again", entries: run.entries.length, sent: run.sent, acked: run.acked.size, retried: run.retried, errors: run.errors, rejected: run.rejected, gaveUp: run.gaveUp, ...check, faultMs: run.window.end - run.window.start, recoveryMs: run.recoveryMs, disruptedMs: run.disruptedMs, after });
   }

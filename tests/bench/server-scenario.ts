@@ -11,14 +11,11 @@ import { localDateOf } from "~/lib/records-export";
 import { createApiToken } from "~/server/api-tokens.server";
 import { settleState } from "~/server/batches.server";
 import { hashToken, makeToken } from "~/server/crypto.server";
-import { pool as appPool } from "~/server/db.server";
 import type { SessionUser } from "~/server/guards.server";
 
 const MIN = 60_000;
 const DAY = 86_400_000;
 export const { db, pool } = connect(process.env.DATABASE_URL, 4);
-// A PostgreSQL restart (the fault phase) ends idle connections: a pool without a listener would throw.
-for (const p of [pool, appPool]) p.on("error", () => {});
 
 type Tenant = Awaited<ReturnType<typeof createTenant>>;
 const fToC = (f: number) => ((f - 32) * 5) / 9;
