@@ -1,4 +1,7 @@
+import type { readings, sites } from "~db/schema";
 import type { Assessment } from "~/lib/engine/assess";
+import { getRuleSet } from "~/lib/rule-sets";
+import type { BatchRow } from "./batches.server";
 
 /**
  * How long a batch's assessment is reused while its record is unchanged. The rule's evaluation moves
@@ -29,4 +32,16 @@ export function assessWithReuse(batchId: string, key: string, now: number, fresh
     for (const [id, e] of entries) if (e.until <= now) entries.delete(id);
   }
   return assessment;
+}
+
+/**
+ * Every part of a batch's record that `assessInput` (batches.server.ts) reads, the clock aside, in one
+ * string: keep the two in step. Readings are append-only, and a correction is a reading of its own.
+ */
+export function recordKey(site: Pick<typeof sites.$inferSelect, "temperatureUnit">, row: BatchRow, rows: (typeof readings.$inferSelect)[], movedAt: number | undefined) {
+  const b = row.batch;
+  const parts: unknown[] = [site.temperatureUnit, b.ruleSetCode, getRuleSet(b.ruleSetCode)?.version, b.startedAt.getTime(), b.panSize, b.panLengthMm, b.panWidthMm, b.panDepthMm, b.fillDepthMm, b.panMaterial, b.lid, b.method];
+  parts.push(JSON.stringify(b.composition ?? row.product.composition), row.learnedLnS, row.learnedSd, row.learnedBatches, movedAt);
+  for (const r of rows) parts.push(r.id, r.takenAt.getTime(), r.receivedAt.getTime(), r.valueEntered, r.unitEntered, r.valueC, r.kind, r.correctsReadingId);
+  return parts.join("|");
 }

@@ -7,7 +7,7 @@ import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
 import { getRuleSet } from "~/lib/rule-sets";
 import { toCelsius } from "~/lib/temperature";
 import { alertsAfterEntry } from "./alerts.server";
-import { assessWithReuse } from "./assessment-cache.server";
+import { assessWithReuse, recordKey } from "./assessment-cache.server";
 import { recordAudit, type Actor } from "./audit.server";
 import { db } from "./db.server";
 
@@ -344,15 +344,6 @@ export type BatchRow = {
 
 function assessRows(site: Site, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt: number | undefined, fresh: boolean) {
   return assessWithReuse(row.batch.id, recordKey(site, row, rows, movedAt), now, fresh, () => assessBatch(assessInput(site, row, rows, now, movedAt)));
-}
-
-/** Every part of a batch's record that `assessInput` reads, in one string (the clock aside): keep the two in step. */
-function recordKey(site: Pick<Site, "temperatureUnit">, row: BatchRow, rows: (typeof readings.$inferSelect)[], movedAt: number | undefined) {
-  const b = row.batch;
-  const parts: unknown[] = [site.temperatureUnit, b.ruleSetCode, getRuleSet(b.ruleSetCode)?.version, b.startedAt.getTime(), b.panSize, b.panLengthMm, b.panWidthMm, b.panDepthMm, b.fillDepthMm, b.panMaterial, b.lid, b.method];
-  parts.push(JSON.stringify(b.composition ?? row.product.composition), row.learnedLnS, row.learnedSd, row.learnedBatches, movedAt);
-  for (const r of rows) parts.push(r.id, r.takenAt.getTime(), r.receivedAt.getTime(), r.valueEntered, r.unitEntered, r.valueC, r.kind, r.correctsReadingId);
-  return parts.join("|");
 }
 
 /**
