@@ -4,7 +4,7 @@ import { getRuleSet } from "~/lib/rule-sets";
 import type { BatchRow } from "./batches.server";
 
 /**
- * How long a batch's assessment is reused while its record is unchanged. The rule's evaluation moves
+ * How long at most a batch's assessment is reused while its record is unchanged. The rule's evaluation moves
  * with the clock only when a deadline passes (never reused across one, below); the prediction beside it
  * moves by seconds in a cooling that takes hours.
  */
@@ -26,7 +26,10 @@ export function assessWithReuse(batchId: string, key: string, now: number, fresh
   if (!fresh && hit && hit.key === key && now >= hit.at - 1000 && now < hit.until) return hit.assessment;
   const assessment = compute();
   const deadlines = assessment.evaluation.stages.map((s) => s.deadline).filter((d): d is number => d !== null && d > now);
-  entries.set(batchId, { key, at: now, until: Math.min(now + ASSESSMENT_REUSE_MS, ...deadlines), assessment });
+  // Each kept for half the window to all of it, so a site's batches, often assessed together, are not
+  // all assessed again by the same request.
+  const reuse = ASSESSMENT_REUSE_MS * (0.5 + Math.random() / 2);
+  entries.set(batchId, { key, at: now, until: Math.min(now + reuse, ...deadlines), assessment });
   if (now - prunedAt > ASSESSMENT_REUSE_MS) {
     prunedAt = now;
     for (const [id, e] of entries) if (e.until <= now) entries.delete(id);

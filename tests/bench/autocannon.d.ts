@@ -6,6 +6,7 @@ declare module "autocannon" {
     url: string;
     connections?: number;
     duration?: number;
+    overallRate?: number;
     timeout?: number;
     headers?: Record<string, string>;
     requests?: (Request & {

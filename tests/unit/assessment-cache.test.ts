@@ -26,16 +26,17 @@ describe("reusing a batch's assessment", () => {
     let runs = 0;
     const run = (now: number) => () => (runs++, assessBatch(input(now)));
     const first = assessWithReuse(id, "k1", t0 + 30 * min, false, run(t0 + 30 * min));
-    expect(assessWithReuse(id, "k1", t0 + 30 * min + 5000, false, run(t0 + 30 * min + 5000))).toBe(first);
+    // Reused for at least half the window.
+    expect(assessWithReuse(id, "k1", t0 + 30 * min + ASSESSMENT_REUSE_MS / 2 - 1, false, run(t0 + 30 * min + 5000))).toBe(first);
     expect(runs).toBe(1);
     // A new reading or move is another key: assessed at once.
-    expect(assessWithReuse(id, "k2", t0 + 30 * min + 6000, false, run(t0 + 30 * min + 6000))).not.toBe(first);
+    expect(assessWithReuse(id, "k2", t0 + 30 * min + 7400, false, run(t0 + 30 * min + 7400))).not.toBe(first);
     expect(runs).toBe(2);
     // An entry or the sweep asks for a fresh one, which the next reader then gets.
-    const fresh = assessWithReuse(id, "k2", t0 + 30 * min + 7000, true, run(t0 + 30 * min + 7000));
+    const fresh = assessWithReuse(id, "k2", t0 + 30 * min + 7500, true, run(t0 + 30 * min + 7500));
     expect(runs).toBe(3);
     expect(assessWithReuse(id, "k2", t0 + 30 * min + 8000, false, run(t0 + 30 * min + 8000))).toBe(fresh);
-    assessWithReuse(id, "k2", t0 + 30 * min + 7000 + ASSESSMENT_REUSE_MS, false, run(t0 + 30 * min + 7000 + ASSESSMENT_REUSE_MS));
+    assessWithReuse(id, "k2", t0 + 30 * min + 7500 + ASSESSMENT_REUSE_MS, false, run(t0 + 30 * min + 7500 + ASSESSMENT_REUSE_MS));
     expect(runs).toBe(4);
   });
 
