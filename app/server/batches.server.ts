@@ -187,9 +187,13 @@ export async function startBatch(site: Site, who: Entrant, input: StartBatchInpu
 }
 
 export async function recordReading(site: Site, who: Entrant, batchId: string, input: ReadingInput, now = Date.now()): Promise<Outcome<typeof readings.$inferSelect>> {
-  const [batch] = await db.select().from(batches).where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+  // The batch and its readings in one round trip (the readings are used only once the batch is this site's).
+  const [[batch], earlier] = await Promise.all([
+    db.select().from(batches).where(and(eq(batches.id, batchId), eq(batches.siteId, site.id))),
+    db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt)),
+  ]);
   if (!batch) return fail({ batch: "not found" }, 404);
-  const [dup] = await db.select().from(readings).where(and(eq(readings.batchId, batch.id), eq(readings.clientId, input.clientId)));
+  const dup = earlier.find((r) => r.clientId === input.clientId);
   if (dup) return { ok: true, value: dup, created: false, warnings: [] };
   // An ended batch takes corrections only (a mistyped reading may have ended it).
   if (batch.state !== "cooling" && !input.corrects) return fail({ batch: "This batch has ended; it takes no more readings, only corrections" }, 409);
@@ -201,7 +205,6 @@ export async function recordReading(site: Site, who: Entrant, batchId: string, i
   const takenAt = input.takenAt ? Date.parse(input.takenAt) : now;
   const when = timeProblem(takenAt, now, batch.startedAt.getTime());
   if (when) errors.takenAt = when;
-  const earlier = await db.select().from(readings).where(eq(readings.batchId, batch.id)).orderBy(asc(readings.takenAt));
   if (input.corrects && !earlier.some((r) => r.id === input.corrects!.readingId)) errors["corrects.readingId"] = "That reading is not one of this batch's";
   if (input.photoId) {
     const [photo] = await db.select({ id: photos.id }).from(photos).where(and(eq(photos.id, input.photoId), eq(photos.siteId, site.id)));
@@ -322,15 +325,18 @@ export function effectiveReadings(rows: (typeof readings.$inferSelect)[]) {
 
 /** The rule's evaluation and the engine's prediction for a batch, now. */
 export async function assess(site: Site, batchId: string, now = Date.now()): Promise<Assessment | null> {
-  const [row] = await db
-    .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
-    .from(batches)
-    .innerJoin(products, eq(products.id, batches.productId))
-    .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
-    .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+  // Three reads at once; the readings and moves count only once the batch is this site's.
+  const [[row], rows, moves] = await Promise.all([
+    db
+      .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
+      .from(batches)
+      .innerJoin(products, eq(products.id, batches.productId))
+      .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
+      .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id))),
+    db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt)),
+    db.select({ takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method"))),
+  ]);
   if (!row) return null;
-  const rows = await db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt));
-  const moves = await db.select({ takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method")));
   return assessRows(site, row, rows, now, moves.length ? Math.max(...moves.map((m) => m.takenAt.getTime())) : undefined, true);
 }
 
