@@ -15,8 +15,13 @@ export function countdown(ms: number) {
   return m >= 60 ? `${sign}${Math.floor(m / 60)} h ${String(m % 60).padStart(2, "0")} min` : `${sign}${m} min`;
 }
 
+// A formatter is costly to make and the live view formats a few times per card: one per language and zone.
+const clocks = new Map<string, Intl.DateTimeFormat>();
 export function clock(ms: number, timeZone: string, lang: string) {
-  return new Intl.DateTimeFormat(lang, { timeZone, hour: "2-digit", minute: "2-digit" }).format(ms);
+  const key = `${lang}|${timeZone}`;
+  let f = clocks.get(key);
+  if (!f) clocks.set(key, (f = new Intl.DateTimeFormat(lang, { timeZone, hour: "2-digit", minute: "2-digit" })));
+  return f.format(ms);
 }
 
 export function BatchCard({ card, now, timeZone, to, pending = 0 }: { card: CardData; now: number; timeZone: string; to: string; pending?: number }) {

@@ -375,7 +375,7 @@ export async function sweep(now = Date.now()) {
     try {
       const active = await db.selectDistinct({ siteId: batches.siteId }).from(batches).where(eq(batches.state, "cooling"));
       const siteRows = active.length ? await db.select().from(sites).where(inArray(sites.id, active.map((a) => a.siteId))) : [];
-      const list = await listActive(siteRows, now);
+      const list = await listActive(siteRows, now, { fresh: true });
       for (const row of list) {
         // One batch that cannot be assessed or alerted must not stop the others, nor the digests.
         try {

@@ -7,6 +7,7 @@ import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
 import { getRuleSet } from "~/lib/rule-sets";
 import { toCelsius } from "~/lib/temperature";
 import { alertsAfterEntry } from "./alerts.server";
+import { assessWithReuse, recordKey } from "./assessment-cache.server";
 import { recordAudit, type Actor } from "./audit.server";
 import { db } from "./db.server";
 
@@ -186,9 +187,13 @@ export async function startBatch(site: Site, who: Entrant, input: StartBatchInpu
 }
 
 export async function recordReading(site: Site, who: Entrant, batchId: string, input: ReadingInput, now = Date.now()): Promise<Outcome<typeof readings.$inferSelect>> {
-  const [batch] = await db.select().from(batches).where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+  // The batch and its readings in one round trip (the readings are used only once the batch is this site's).
+  const [[batch], earlier] = await Promise.all([
+    db.select().from(batches).where(and(eq(batches.id, batchId), eq(batches.siteId, site.id))),
+    db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt)),
+  ]);
   if (!batch) return fail({ batch: "not found" }, 404);
-  const [dup] = await db.select().from(readings).where(and(eq(readings.batchId, batch.id), eq(readings.clientId, input.clientId)));
+  const dup = earlier.find((r) => r.clientId === input.clientId);
   if (dup) return { ok: true, value: dup, created: false, warnings: [] };
   // An ended batch takes corrections only (a mistyped reading may have ended it).
   if (batch.state !== "cooling" && !input.corrects) return fail({ batch: "This batch has ended; it takes no more readings, only corrections" }, 409);
@@ -200,7 +205,6 @@ export async function recordReading(site: Site, who: Entrant, batchId: string, i
   const takenAt = input.takenAt ? Date.parse(input.takenAt) : now;
   const when = timeProblem(takenAt, now, batch.startedAt.getTime());
   if (when) errors.takenAt = when;
-  const earlier = await db.select().from(readings).where(eq(readings.batchId, batch.id)).orderBy(asc(readings.takenAt));
   if (input.corrects && !earlier.some((r) => r.id === input.corrects!.readingId)) errors["corrects.readingId"] = "That reading is not one of this batch's";
   if (input.photoId) {
     const [photo] = await db.select({ id: photos.id }).from(photos).where(and(eq(photos.id, input.photoId), eq(photos.siteId, site.id)));
@@ -321,16 +325,19 @@ export function effectiveReadings<R extends Pick<typeof readings.$inferSelect, "
 
 /** The rule's evaluation and the engine's prediction for a batch, now. */
 export async function assess(site: Site, batchId: string, now = Date.now()): Promise<Assessment | null> {
-  const [row] = await db
-    .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
-    .from(batches)
-    .innerJoin(products, eq(products.id, batches.productId))
-    .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
-    .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+  // Three reads at once; the readings and moves count only once the batch is this site's.
+  const [[row], rows, moves] = await Promise.all([
+    db
+      .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
+      .from(batches)
+      .innerJoin(products, eq(products.id, batches.productId))
+      .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
+      .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id))),
+    db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt)),
+    db.select({ takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method"))),
+  ]);
   if (!row) return null;
-  const rows = await db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt));
-  const moves = await db.select({ takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method")));
-  return assessRows(site, row, rows, now, moves.length ? Math.max(...moves.map((m) => m.takenAt.getTime())) : undefined);
+  return assessRows(site, row, rows, now, moves.length ? Math.max(...moves.map((m) => m.takenAt.getTime())) : undefined, true);
 }
 
 export type BatchRow = {
@@ -341,9 +348,12 @@ export type BatchRow = {
   learnedBatches: number | null;
 };
 
-/** The assessment from rows the caller already read (the export's pictures read a page at a time). */
-export function assessRows(site: Site, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt?: number) {
-  return assessBatch(assessInput(site, row, rows, now, movedAt));
+/**
+ * The assessment from rows the caller already read (the live view, the sweep, the export's pictures),
+ * reused while the batch's record is unchanged unless `fresh` (see assessment-cache.server.ts).
+ */
+export function assessRows(site: Site, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt?: number, fresh = false) {
+  return assessWithReuse(row.batch.id, recordKey(site, row, rows, movedAt), now, fresh, () => assessBatch(assessInput(site, row, rows, now, movedAt)));
 }
 
 /**
@@ -354,6 +364,7 @@ export function evaluateRows(site: Pick<Site, "temperatureUnit">, row: BatchRow,
   return evaluateRecord(assessInput(site, row, rows, now)).evaluation;
 }
 
+// What this reads of the record, `recordKey` must name too (the live view reuses assessments by it).
 function assessInput(site: Pick<Site, "temperatureUnit">, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt?: number): AssessInput {
   const { batch, product } = row;
   const counted = effectiveReadings(rows);
@@ -471,8 +482,12 @@ async function learnFromBatch(tx: Parameters<Parameters<typeof db.transaction>[0
   await recordAudit(tx, { actor: { kind: "system", label: "equipment learning" }, organisationId: site.organisationId, siteId: site.id, action: "equipment.learned", entity: "equipment", entityId: eqp.id, data: { batchId, lnS: x, mean, sd, batches: n } });
 }
 
-/** Active batches of some sites, each with its current assessment (for the API and the live view). */
-export async function listActive(siteRows: Site[], now = Date.now()) {
+/**
+ * Active batches of some sites, each with its current assessment (for the API and the live view). An
+ * assessment of the same record a few seconds old is reused (see assessment-cache.server.ts) unless
+ * `fresh`: the alert sweep asks for fresh ones, and leaves them for the next readers.
+ */
+export async function listActive(siteRows: Site[], now = Date.now(), options: { fresh?: boolean } = {}) {
   if (siteRows.length === 0) return [];
   const ids = siteRows.map((s) => s.id);
   const rows = await db
@@ -487,10 +502,18 @@ export async function listActive(siteRows: Site[], now = Date.now()) {
   const moves = rows.length
     ? await db.select({ batchId: correctiveActions.batchId, takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(inArray(correctiveActions.batchId, ids2), eq(correctiveActions.kind, "change_method")))
     : [];
+  const siteById = new Map(siteRows.map((s) => [s.id, s]));
+  const readingsOf = new Map<string, (typeof readings.$inferSelect)[]>();
+  // Grouped in one pass, each batch's readings stay in taken-at order.
+  for (const r of all) {
+    const list = readingsOf.get(r.batchId);
+    if (list) list.push(r);
+    else readingsOf.set(r.batchId, [r]);
+  }
+  const movedAt = new Map<string, number>();
+  for (const m of moves) movedAt.set(m.batchId, Math.max(movedAt.get(m.batchId) ?? -Infinity, m.takenAt.getTime()));
   return rows.map((row) => {
-    const site = siteRows.find((s) => s.id === row.batch.siteId)!;
-    const mine = all.filter((r) => r.batchId === row.batch.id);
-    const moved = moves.filter((m) => m.batchId === row.batch.id).map((m) => m.takenAt.getTime());
-    return { ...row, readings: mine, assessment: assessRows(site, row, mine, now, moved.length ? Math.max(...moved) : undefined) };
+    const mine = readingsOf.get(row.batch.id) ?? [];
+    return { ...row, readings: mine, assessment: assessRows(siteById.get(row.batch.siteId)!, row, mine, now, movedAt.get(row.batch.id), options.fresh ?? false) };
   });
 }

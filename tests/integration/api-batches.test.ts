@@ -195,6 +195,23 @@ describe("batches API", () => {
     expect((await cook.get("/api/v1/batches?status=all")).status).toBe(400);
   });
 
+  it("the active list reuses an assessment only while the record stands still: a new reading shows at once", async () => {
+    const t = await newTenant();
+    const cook = await cookOf(t);
+    const { batch } = await started(t, cook);
+    type Listed = { id: string; record: { stages: { status: string; metBy: string | null }[] } };
+    const listed = async () => ((await (await cook.get("/api/v1/batches?status=active")).json()) as { batches: Listed[] }).batches.find((b) => b.id === batch.id)!;
+    expect((await listed()).record.stages[0].status).not.toBe("met");
+    // Read again: this one may be the reused assessment.
+    expect((await listed()).record.stages[0].status).not.toBe("met");
+    // A reading the app did not settle itself (straight into the table): the next list already counts it.
+    const [r] = await db
+      .insert(readings)
+      .values({ batchId: batch.id, siteId: t.site.id, clientId: randomUUID(), valueEntered: 65, unitEntered: "F", valueC: ((65 - 32) * 5) / 9, takenAt: new Date(), late: false, source: "api" })
+      .returning();
+    expect((await listed()).record.stages[0]).toMatchObject({ status: "met", metBy: r.id });
+  });
+
   it("a site API token logs for its own site only; QA cannot log; another organisation sees 404", async () => {
     const t = await newTenant();
     const manager = await signedIn(t.people.manager.email, t.people.manager.password);

@@ -1,0 +1,72 @@
+import { describe, expect, it } from "vitest";
+import type { batches, products, readings } from "~db/schema";
+import { assessBatch, type AssessInput } from "~/lib/engine/assess";
+import { getRuleSet } from "~/lib/rule-sets";
+import { ASSESSMENT_REUSE_MS, assessWithReuse, recordKey } from "~/server/assessment-cache.server";
+import type { BatchRow } from "~/server/batches.server";
+
+const fda = getRuleSet("fda-3-501.14-a")!;
+const t0 = Date.parse("2026-12-01T14:00:00Z");
+const min = 60_000;
+const input = (now: number): AssessInput => ({
+  ruleSet: fda,
+  setup: { food: { k: 0.52, alpha: 1.35e-7, rhoCp: 0.52 / 1.35e-7 }, pan: { size: "gn-1/1", depthMm: 65 }, fillDepthMm: 50, panMaterial: "stainless-steel", lid: false, method: "walk-in", startC: 65 },
+  batchStartedAt: t0,
+  readings: [{ id: "r0", takenAt: t0, value: 150, unit: "F" }, { id: "r1", takenAt: t0 + 20 * min, value: 120, unit: "F" }],
+  siteUnit: "F",
+  now,
+});
+let n = 0;
+// Each test its own batch id: the cache is the module's own.
+const batchId = () => `batch-${n++}`;
+
+describe("reusing a batch's assessment", () => {
+  it("the same record within the window is assessed once; another key, a fresh read or the window's end assesses again", () => {
+    const id = batchId();
+    let runs = 0;
+    const run = (now: number) => () => (runs++, assessBatch(input(now)));
+    const first = assessWithReuse(id, "k1", t0 + 30 * min, false, run(t0 + 30 * min));
+    // Reused for at least half the window.
+    expect(assessWithReuse(id, "k1", t0 + 30 * min + ASSESSMENT_REUSE_MS / 2 - 1, false, run(t0 + 30 * min + 5000))).toBe(first);
+    expect(runs).toBe(1);
+    // A new reading or move is another key: assessed at once.
+    expect(assessWithReuse(id, "k2", t0 + 30 * min + 7400, false, run(t0 + 30 * min + 7400))).not.toBe(first);
+    expect(runs).toBe(2);
+    // An entry or the sweep asks for a fresh one, which the next reader then gets.
+    const fresh = assessWithReuse(id, "k2", t0 + 30 * min + 7500, true, run(t0 + 30 * min + 7500));
+    expect(runs).toBe(3);
+    expect(assessWithReuse(id, "k2", t0 + 30 * min + 8000, false, run(t0 + 30 * min + 8000))).toBe(fresh);
+    assessWithReuse(id, "k2", t0 + 30 * min + 7500 + ASSESSMENT_REUSE_MS, false, run(t0 + 30 * min + 7500 + ASSESSMENT_REUSE_MS));
+    expect(runs).toBe(4);
+  });
+
+  it("is never reused across a deadline: the stage becomes missed on time", () => {
+    const id = batchId();
+    const deadline = assessBatch(input(t0 + 30 * min)).evaluation.stages[0].deadline!;
+    const before = deadline - 2000;
+    const a = assessWithReuse(id, "k", before, false, () => assessBatch(input(before)));
+    expect(a.evaluation.stages[0].status).not.toBe("missed");
+    const after = assessWithReuse(id, "k", deadline + 1000, false, () => assessBatch(input(deadline + 1000)));
+    expect(after).not.toBe(a);
+    expect(after.evaluation.stages[0].status).toBe("missed");
+  });
+
+  it("the key changes with a new reading, a correction, a move, the method and what the equipment learned", () => {
+    const batch = { id: "b", ruleSetCode: fda.code, startedAt: new Date(t0), panSize: "gn-1/1", panLengthMm: null, panWidthMm: null, panDepthMm: 65, fillDepthMm: 50, panMaterial: "stainless-steel", lid: false, method: "walk-in", composition: { water: 80, protein: 20 } } as unknown as typeof batches.$inferSelect;
+    const row: BatchRow = { batch, product: { composition: { water: 80, protein: 20 } } as unknown as typeof products.$inferSelect, learnedLnS: null, learnedSd: null, learnedBatches: null };
+    const reading = (id: string, value: number, corrects: string | null = null) =>
+      ({ id, takenAt: new Date(t0), receivedAt: new Date(t0), valueEntered: value, unitEntered: "F", valueC: ((value - 32) * 5) / 9, kind: "reading", correctsReadingId: corrects }) as typeof readings.$inferSelect;
+    const site = { temperatureUnit: "F" as const };
+    const base = recordKey(site, row, [reading("r0", 150)], undefined);
+    expect(recordKey(site, row, [reading("r0", 150)], undefined)).toBe(base);
+    const variants = [
+      recordKey(site, row, [reading("r0", 150), reading("r1", 120)], undefined),
+      recordKey(site, row, [reading("r0", 150), reading("r1", 149, "r0")], undefined),
+      recordKey(site, row, [reading("r0", 150)], t0 + 5 * min),
+      recordKey(site, { ...row, batch: { ...batch, method: "ice-bath" } }, [reading("r0", 150)], undefined),
+      recordKey(site, { ...row, learnedLnS: 0.1, learnedSd: 0.2, learnedBatches: 3 }, [reading("r0", 150)], undefined),
+      recordKey({ temperatureUnit: "C" }, row, [reading("r0", 150)], undefined),
+    ];
+    expect(new Set([base, ...variants]).size).toBe(variants.length + 1);
+  });
+});
