@@ -369,6 +369,12 @@ class ConstantSeries implements Series1D {
   }
 }
 
+// ln n of a term count (an integer, mostly small) from a table up to 256: the same values, no call.
+const LOG_INT = Float64Array.from({ length: 257 }, (_, n) => Math.log(n));
+function logInt(n: number): number {
+  return n <= 256 ? LOG_INT[n] : Math.log(n);
+}
+
 // Σ_{m ≥ N} exp(−m²π²Fo) ≤ exp(−N²π²Fo) / (1 − exp(−(2N+1)π²Fo)): successive ratios only shrink.
 function gaussTail(n: number, fo: number): number {
   return Math.exp(-n * n * PI2 * fo) / -Math.expm1(-(2 * n + 1) * PI2 * fo);
@@ -475,7 +481,7 @@ abstract class ModalSeries implements Series1D {
     let n = Math.max(2, Math.ceil(Math.sqrt(logFirst / c)));
     if (n > this.cap) return this.tailOk(this.cap, fo) ? this.cap : 0;
     if (!this.ampFalls) return n;
-    const trimmed = Math.max(1, Math.ceil(Math.sqrt(Math.max(0, logFirst - Math.log(n)) / c)));
+    const trimmed = Math.max(1, Math.ceil(Math.sqrt(Math.max(0, logFirst - logInt(n)) / c)));
     if (trimmed < n && this.tailOk(trimmed, fo)) n = trimmed;
     return n;
   }
