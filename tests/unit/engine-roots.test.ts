@@ -11,6 +11,7 @@ import {
   cylinderRoot,
   findRootBrent,
   findRootNewton,
+  nextSlabRoot,
   oneTermConstants,
   planeWallRoot,
   slabRoot,
@@ -138,6 +139,31 @@ describe("slab roots with two different faces", () => {
         for (let n = 1; n <= 5; n++) expect(Math.abs(ozisik(slabRoot(b0, b1, n), b0, b1))).toBeLessThan(1e-13);
         expect(slabRoot(b0, b1, 2)).toBeCloseTo(slabRoot(b1, b0, 2), 13);
       }
+  });
+
+  it("from the root before it (one predictor step, one arctangent for both faces) agree with a plain bracketed search to 1e-14, n to 200, Biot 1e-4 to 1e4", () => {
+    // The reference: the phase condition ζ + atan(ζ/B0) + atan(ζ/B1) = nπ with one arctangent per
+    // face, by Brent's method in [(n−1)π, nπ] to rounding (no starting guess, no derivative).
+    const biots = [0, Infinity];
+    for (let e = -4; e <= 4; e += 0.5) biots.push(10 ** e);
+    biots.push(1, 1 + 2e-10); // the bench's nearly alike faces
+    let worst = 0;
+    for (const b0 of biots)
+      for (const b1 of biots) {
+        const phase = (n: number) => (z: number) =>
+          z - n * PI + (b0 === 0 ? PI / 2 : b0 === Infinity ? 0 : Math.atan2(z, b0)) + (b1 === 0 ? PI / 2 : b1 === Infinity ? 0 : Math.atan2(z, b1));
+        let z = slabRoot(b0, b1, 1);
+        for (let n = 1; n <= 200; n++) {
+          if (n > 1) z = nextSlabRoot(b0, b1, n, z);
+          const lo = (n - 1) * PI;
+          const f = phase(n);
+          const ref = f(lo) >= 0 ? lo : findRootBrent(f, lo, n * PI, 0);
+          const err = Math.abs(z - ref) / Math.max(ref, 1e-300);
+          worst = Math.max(worst, ref === 0 ? Math.abs(z) : err);
+          expect(slabRoot(b0, b1, n)).toBeCloseTo(z, 12);
+        }
+      }
+    expect(worst).toBeLessThan(1e-14);
   });
 
   test.prop([logUniform(1e-4, 1e4), fc.integer({ min: 1, max: 500 })], { numRuns: 100 })(

@@ -301,6 +301,12 @@ let rowScratch = new Float64Array(1024);
 let factorScratch = new Float64Array(64);
 let profileScratch = new Float64Array(64);
 /** The step of evenly spaced positions (to 1e-15), or 0. */
+// cos θ from sin θ for a turn θ ≥ 0 of a walk: √((1 − sin θ)(1 + sin θ)) up to π/4, within a few
+// ulp there (1 − sin θ ≥ 0.29 loses nothing), one trigonometric call instead of two; cos θ beyond.
+function turnCos(th: number, sinTh: number): number {
+  return th <= 0.25 * PI ? Math.sqrt((1 - sinTh) * (1 + sinTh)) : Math.cos(th);
+}
+
 function evenStep(s: readonly number[]): number {
   const m = s.length;
   if (m < 3) return 0;
@@ -361,6 +367,12 @@ class ConstantSeries implements Series1D {
   state(): ModalState {
     return { constant: this.u, zeta: [], phi: [], amp: [], symmetric: true };
   }
+}
+
+// ln n of a term count (an integer, mostly small) from a table up to 256: the same values, no call.
+const LOG_INT = Float64Array.from({ length: 257 }, (_, n) => Math.log(n));
+function logInt(n: number): number {
+  return n <= 256 ? LOG_INT[n] : Math.log(n);
 }
 
 // Σ_{m ≥ N} exp(−m²π²Fo) ≤ exp(−N²π²Fo) / (1 − exp(−(2N+1)π²Fo)): successive ratios only shrink.
@@ -469,7 +481,7 @@ abstract class ModalSeries implements Series1D {
     let n = Math.max(2, Math.ceil(Math.sqrt(logFirst / c)));
     if (n > this.cap) return this.tailOk(this.cap, fo) ? this.cap : 0;
     if (!this.ampFalls) return n;
-    const trimmed = Math.max(1, Math.ceil(Math.sqrt(Math.max(0, logFirst - Math.log(n)) / c)));
+    const trimmed = Math.max(1, Math.ceil(Math.sqrt(Math.max(0, logFirst - logInt(n)) / c)));
     if (trimmed < n && this.tailOk(trimmed, fo)) n = trimmed;
     return n;
   }
@@ -622,16 +634,21 @@ abstract class ModalSeries implements Series1D {
   }
 }
 
-// cos φ and sin 2φ of a face phase φ = atan(ζ/B), exact at B = 0 and B = ∞.
-function cosPhase(zeta: number, bi: number): number {
-  if (bi === 0) return 0;
-  if (bi === Infinity) return 1;
-  return bi / Math.sqrt(zeta * zeta + bi * bi);
-}
-
-function sin2Phase(zeta: number, bi: number): number {
-  if (bi === 0 || bi === Infinity) return 0;
-  return (2 * zeta * bi) / (zeta * zeta + bi * bi);
+// cos φ and sin φ of a face phase φ = atan(ζ/B) into out[k], out[k + 1]: B/√(ζ² + B²) and
+// ζ/√(ζ² + B²), exact at B = 0 (insulated: φ = π/2) and B = ∞ (fixed: φ = 0).
+const phaseTrig = new Float64Array(4);
+function facePhaseTrig(zeta: number, bi: number, out: Float64Array, k: number): void {
+  if (bi === 0) {
+    out[k] = 0;
+    out[k + 1] = 1;
+  } else if (bi === Infinity) {
+    out[k] = 1;
+    out[k + 1] = 0;
+  } else {
+    const r = 1 / Math.sqrt(zeta * zeta + bi * bi);
+    out[k] = bi * r;
+    out[k + 1] = zeta * r;
+  }
 }
 
 /**
@@ -707,6 +724,7 @@ function cosIntegral(c: number, d: number): number {
  */
 class SlabSeries extends ModalSeries {
   private readonly phi: number[] = [];
+  private phiCount = 0; // phases computed so far (see phases())
   private levels: QuadratureLevel[] | null = null; // a profile start's quadratures, made on first use
   private l1 = 0;
   private startMean = 0;
@@ -896,7 +914,6 @@ class SlabSeries extends ModalSeries {
   protected computeMode(i: number): void {
     let n: number;
     let z: number;
-    let phi0: number;
     if (this.stride === 2) {
       // Mode n = 2i + 1 of the slab alike on both faces is mode i + 1 of its half, insulated at the
       // mid-plane with Biot number b/2 on the half depth: ζ = 2λ, and ζ + 2φ = nπ gives the phase.
@@ -904,20 +921,28 @@ class SlabSeries extends ModalSeries {
       const bh = 0.5 * this.b0;
       const lambda = i === 0 ? slabRoot(0, bh, 1) : nextSlabRoot(0, bh, i + 1, 0.5 * this.zeta[i - 1]);
       z = 2 * lambda;
-      phi0 = 0.5 * (n * PI - z);
     } else {
       n = i + 1;
       z = i === 0 ? slabRoot(this.b0, this.b1, 1) : nextSlabRoot(this.b0, this.b1, n, this.zeta[i - 1]);
-      phi0 = z === 0 ? 0.5 * PI : facePhase(z, this.b0);
     }
-    const norm = z === 0 ? 1 : 0.5 + (sin2Phase(z, this.b0) + sin2Phase(z, this.b1)) / (4 * z);
+    // cos φ and sin φ of each face from one square root, no trigonometric call: the norm, the mean
+    // and the centre below need nothing else (the phase itself is found when a position needs it).
+    facePhaseTrig(z, this.b0, phaseTrig, 0);
+    facePhaseTrig(z, this.b1, phaseTrig, 2);
+    const c0 = phaseTrig[0];
+    const s0 = phaseTrig[1];
+    const c1 = phaseTrig[2];
+    const s1 = phaseTrig[3];
+    // sin 2φ = 2 sin φ cos φ.
+    const norm = z === 0 ? 1 : 0.5 + (s0 * c0 + s1 * c1) / (2 * z);
     // ∫₀¹ Xₙ dξ = [cos φ0 − (−1)ⁿ cos φ1] / ζₙ, since ζₙ + φ0 = nπ − φ1.
     const sign = n % 2 === 0 ? -1 : 1;
-    const meanX = z === 0 ? 1 : (cosPhase(z, this.b0) + sign * cosPhase(z, this.b1)) / z;
+    const meanX = z === 0 ? 1 : (c0 + sign * c1) / z;
     const st = this.start;
     let a: number;
     if (st.kind === "uniform") a = (st.u * meanX) / norm;
     else if (st.modes) {
+      const phi0 = this.phase(n, z);
       // For X'' = −ζj²X and Y'' = −ζ²Y: (ζj² − ζ²)∫₀¹XY = [XY' − X'Y]₀¹ (Green's identity), from the
       // modes' end values alone; the direct integral where ζj and ζ nearly coincide.
       const m = st.modes;
@@ -939,6 +964,7 @@ class SlabSeries extends ModalSeries {
       a = sum / norm;
     } else {
       // 8-point Gauss–Legendre with at most 3 radians of phase per panel resolves Xₙ to rounding level.
+      const phi0 = this.phase(n, z);
       const lvl = this.level(Math.ceil(z / 3));
       let sum = 0;
       const x = lvl.nodes;
@@ -947,15 +973,37 @@ class SlabSeries extends ModalSeries {
       a = sum / norm;
     }
     this.zeta[i] = z;
-    this.phi[i] = phi0;
     this.amp[i] = a;
-    // A symmetric mode at the mid-plane: sin(nπ/2) = ±1.
-    this.ampCentre[i] = this.stride === 2 ? (i % 2 === 0 ? a : -a) : a * Math.sin(0.5 * z + phi0);
+    // A symmetric mode at the mid-plane: sin(nπ/2) = ±1. Otherwise ζ/2 + φ0 = nπ/2 + δ/2 with
+    // δ = φ0 − φ1 in (−π/2, π/2): cos δ = c0c1 + s0s1, sin δ = s0c1 − c0s1, and the half angle
+    // cos(δ/2) = √((1 + cos δ)/2), sin(δ/2) = sin δ/(2cos(δ/2)), free of cancellation.
+    if (this.stride === 2) this.ampCentre[i] = i % 2 === 0 ? a : -a;
+    else {
+      const ch = Math.sqrt(0.5 * (1 + c0 * c1 + s0 * s1));
+      const half = n % 2 === 1 ? ch : (s0 * c1 - c0 * s1) / (2 * ch);
+      // sin(nπ/2 + x) is cos x (n odd) or sin x (n even), negated when ⌊n/2⌋ is odd.
+      this.ampCentre[i] = (n >> 1) % 2 === 0 ? a * half : -a * half;
+    }
     this.ampMean[i] = a * meanX;
   }
 
+  // Phase φ0 of mode n with root z.
+  private phase(n: number, z: number): number {
+    if (this.stride === 2) return 0.5 * (n * PI - z);
+    return z === 0 ? 0.5 * PI : facePhase(z, this.b0);
+  }
+
+  /** Phases φ0 of the modes found so far, each computed when first needed. */
+  private phases(): number[] {
+    const phi = this.phi;
+    for (let i = this.phiCount; i < this.count; i++) phi[i] = this.phase(this.stride === 2 ? 2 * i + 1 : i + 1, this.zeta[i]);
+    if (this.count > this.phiCount) this.phiCount = this.count;
+    return phi;
+  }
+
   protected eigen(i: number, s: number): number {
-    return Math.sin(this.zeta[i] * s + this.phi[i]);
+    const phi = i < this.phiCount ? this.phi : this.phases();
+    return Math.sin(this.zeta[i] * s + phi[i]);
   }
 
   // Evenly spaced positions (a profile): sin((j + 1)θ + α) = 2cos θ·sin(jθ + α) − sin((j − 1)θ + α)
@@ -971,7 +1019,7 @@ class SlabSeries extends ModalSeries {
       else {
         const row = i * m;
         const zi = this.zeta[i];
-        const pi = this.phi[i];
+        const pi = this.phases()[i];
         for (let j = 0; j < m; j++) t[row + j] = Math.sin(zi * s[j] + pi);
       }
     }
@@ -991,8 +1039,8 @@ class SlabSeries extends ModalSeries {
   private walkMode(i: number, s: readonly number[], step: number, t: Float64Array, row: number, w: number, add: Float64Array | null): void {
     const m = s.length;
     const th = this.zeta[i] * step;
-    const c = Math.cos(th);
     const sth = Math.sin(th);
+    const c = turnCos(th, sth);
     const c2 = 2 * c;
     for (let j0 = 0; j0 < m; j0 += WALK_STEPS) {
       this.walkStart(i, s, j0, c, sth, 0);
@@ -1023,10 +1071,10 @@ class SlabSeries extends ModalSeries {
     const m = s.length;
     const th0 = this.zeta[i] * step;
     const th1 = this.zeta[i + 1] * step;
-    const cos0 = Math.cos(th0);
-    const cos1 = Math.cos(th1);
     const sin0 = Math.sin(th0);
     const sin1 = Math.sin(th1);
+    const cos0 = turnCos(th0, sin0);
+    const cos1 = turnCos(th1, sin1);
     const c0 = 2 * cos0;
     const c1 = 2 * cos1;
     for (let j0 = 0; j0 < m; j0 += WALK_STEPS) {
@@ -1060,7 +1108,7 @@ class SlabSeries extends ModalSeries {
       here = zi * r;
       cosHere = b0 * r;
     } else {
-      const angle = zi * s[j0] + this.phi[i];
+      const angle = zi * s[j0] + this.phases()[i];
       here = Math.sin(angle);
       cosHere = Math.cos(angle);
     }
@@ -1104,7 +1152,7 @@ class SlabSeries extends ModalSeries {
       return sum;
     }
     const z = this.zeta;
-    const phi = this.phi;
+    const phi = this.phases();
     if (!even) {
       this.walkLeft = 0;
       for (let i = 0; i < n; i++) sum += amp[i] * d[i] * Math.sin(z[i] * s + phi[i]);
@@ -1144,7 +1192,7 @@ class SlabSeries extends ModalSeries {
     return {
       constant: 0,
       zeta: this.zeta.slice(0, n),
-      phi: this.phi.slice(0, n),
+      phi: this.phases().slice(0, n),
       amp: this.amp.slice(0, n).map((a, i) => a * d[i]),
       symmetric: this.stride === 2,
     };
@@ -1273,6 +1321,9 @@ function checkTime(tS: number): void {
   if (!(tS >= 0) || !Number.isFinite(tS)) throw new RangeError(`time must be ≥ 0 s, got ${tS}`);
 }
 
+// The positions of the last batch evaluation that made new ones, on every solution's unit length.
+let sharedPositions: { len: number; at: readonly number[]; unit: readonly number[] } | null = null;
+
 abstract class BaseSolution implements Solution {
   constructor(
     readonly geometry: Geometry,
@@ -1306,8 +1357,8 @@ abstract class BaseSolution implements Solution {
 
   // Positions on the unit length for a batch evaluation, kept between calls for the same positions
   // (the series keep their eigenfunction values for them).
-  private lastAt: number[] | null = null;
-  private lastUnit: number[] | null = null;
+  private lastAt: readonly number[] | null = null;
+  private lastUnit: readonly number[] | null = null;
   protected unitPositions(atM: ArrayLike<number>): readonly number[] {
     const m = atM.length;
     const len = this.extentM();
@@ -1315,11 +1366,22 @@ abstract class BaseSolution implements Solution {
     let same = last !== null && last.length === m;
     for (let j = 0; same && j < m; j++) same = last![j] === atM[j];
     if (!same || !this.lastUnit) {
-      const at: number[] = Array.prototype.slice.call(atM);
-      const u = at.slice();
-      for (let j = 0; j < m; j++) u[j] = Math.min(1, Math.max(0, u[j] / len));
-      this.lastAt = at;
-      this.lastUnit = u;
+      // A new solution asked for the positions the last one was (a fit's trials, the same picture for
+      // many pans of one depth): their unit positions are shared, never changed once made.
+      const shared = sharedPositions;
+      let hit = shared !== null && shared.len === len && shared.at.length === m;
+      for (let j = 0; hit && j < m; j++) hit = shared!.at[j] === atM[j];
+      if (hit) {
+        this.lastAt = shared!.at;
+        this.lastUnit = shared!.unit;
+      } else {
+        const at: number[] = Array.prototype.slice.call(atM);
+        const u = at.slice();
+        for (let j = 0; j < m; j++) u[j] = Math.min(1, Math.max(0, u[j] / len));
+        this.lastAt = at;
+        this.lastUnit = u;
+        sharedPositions = { len, at, unit: u };
+      }
     }
     return this.lastUnit;
   }
