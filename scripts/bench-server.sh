@@ -33,6 +33,9 @@ export NODE_ENV=production
 # The fault phase restarts this cluster: the orchestrator needs its programs and folder.
 export PG_BIN PG_DATA PG_LOG
 node_modules/.bin/tsx db/migrate.ts
+# The app runs as the runtime role, as in the demo and the tests; the scenario is seeded as the owner.
+ensure_runtime_login
+export APP_DATABASE_URL="$(runtime_url chillwright_bench)"
 
 say "Building the app…"
 node_modules/.bin/react-router build >"$DATA/bench-build.log" 2>&1 || { cat "$DATA/bench-build.log"; die "the build failed"; }

@@ -16,7 +16,7 @@ export class AppProcess {
   readonly log = resolve(ROOT, ".data/bench-app.log");
 
   async start() {
-    const env: Record<string, string | undefined> = { ...process.env, HOST: "127.0.0.1", PORT: String(APP_PORT), NODE_ENV: "production", TRUST_PROXY: "1", APP_URL };
+    const env: Record<string, string | undefined> = { ...process.env, DATABASE_URL: process.env.APP_DATABASE_URL ?? process.env.DATABASE_URL, HOST: "127.0.0.1", PORT: String(APP_PORT), NODE_ENV: "production", TRUST_PROXY: "1", APP_URL };
     for (const k of Object.keys(env)) if (k.startsWith("ALERT_")) delete env[k];
     // e.g. BENCH_APP_NODE_ARGS="--cpu-prof --cpu-prof-dir=.data/prof" to profile the app under load.
     const nodeArgs = process.env.BENCH_APP_NODE_ARGS?.split(" ").filter(Boolean) ?? [];
