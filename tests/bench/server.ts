@@ -124,6 +124,59 @@ try {
     const [pacedPosts, pacedLive] = await Promise.all([measure(posts("load-paced", SECONDS, CONNECTIONS / PACE)), measure(liveView(SECONDS, Math.max(1, LIVE_CONNECTIONS / PACE)))]);
     figures.push(figure(`paced: reading POST, ${CONNECTIONS} tablets × 1 per ${PACE} s, while the live view polls`, pacedPosts));
     figures.push(figure(`paced: live view GET /station, ${LIVE_CONNECTIONS} stations × 1 per ${PACE} s, during the POSTs`, pacedLive));
+    // autocannon's overallRate releases each second's requests together (a burst every second), so the
+    // paced phase above measures bursts. Here each tablet and station keeps its own clock instead, at a
+    // random phase, one request every PACE s on average: what a kitchen's tablets look like.
+    const spread = async (seconds: number) => {
+      const out = { posts: { latencies: [] as number[], statuses: new Map<number, number>(), errors: 0, seconds }, live: { latencies: [] as number[], statuses: new Map<number, number>(), errors: 0, seconds } };
+      const end = Date.now() + seconds * 1000;
+      const pause = (ms: number) => new Promise((r) => setTimeout(r, ms));
+      const count = (m: Measured, status: number, ms: number) => {
+        m.latencies.push(ms);
+        m.statuses.set(status, (m.statuses.get(status) ?? 0) + 1);
+      };
+      const tablet = async (j: number) => {
+        await pause(Math.random() * PACE * 1000);
+        for (let n = 0; Date.now() < end; n++) {
+          const batchId = k.cooling.ids[(j * 37 + n) % k.cooling.ids.length];
+          const clientId = `load-spread-${j}-${n}`;
+          sentPosts++;
+          const t = performance.now();
+          try {
+            const res = await fetch(`${APP_URL}/api/v1/batches/${batchId}/readings`, {
+              method: "POST",
+              headers: { authorization: `Bearer ${k.apiToken}`, "content-type": "application/json" },
+              body: JSON.stringify({ clientId, value: nextValue(batchId), unit: "F" }),
+            });
+            await res.text();
+            count(out.posts, res.status, performance.now() - t);
+            if (res.ok) acked.push(clientId);
+          } catch {
+            out.posts.errors++;
+          }
+          await pause(PACE * 1000 * (0.5 + Math.random()));
+        }
+      };
+      const stationPoll = async () => {
+        await pause(Math.random() * PACE * 1000);
+        while (Date.now() < end) {
+          const t = performance.now();
+          try {
+            const res = await fetch(`${APP_URL}/station`, { headers: station });
+            await res.text();
+            count(out.live, res.status, performance.now() - t);
+          } catch {
+            out.live.errors++;
+          }
+          await pause(PACE * 1000 * (0.5 + Math.random()));
+        }
+      };
+      await Promise.all([...Array.from({ length: CONNECTIONS }, (_, j) => tablet(j)), ...Array.from({ length: LIVE_CONNECTIONS }, () => stationPoll())]);
+      return out;
+    };
+    const spreadOut = await spread(SECONDS);
+    figures.push(figure(`spread: reading POST, ${CONNECTIONS} tablets × 1 per ${PACE} s each on its own clock`, spreadOut.posts));
+    figures.push(figure(`spread: live view GET /station, ${LIVE_CONNECTIONS} stations × 1 per ${PACE} s, meanwhile`, spreadOut.live));
     // Saturation: every connection sends again as soon as it is answered.
     const [mixedPosts, mixedLive] = await Promise.all([measure(posts("load-mixed", SECONDS)), measure(liveView(SECONDS))]);
     figures.push(figure(`saturated: reading POST while the live view polls (${CONNECTIONS} conn.)`, mixedPosts));
