@@ -279,10 +279,16 @@ async function weeklyRecords(now: number) {
     .from(alertEvents)
     .where(and(eq(alertEvents.kind, "weekly_records"), sql`${alertEvents.createdAt} > ${new Date(now - 8 * 86_400_000)}`));
   const sent = new Set(keys.map((k) => `${k.siteId}|${k.key}`));
-  for (const site of all) {
+  const due = (site: typeof sites.$inferSelect) => {
     const { date, hour } = localDateHour(now, site.timeZone);
     const weekday = ((new Date(`${date}T00:00:00Z`).getUTCDay() + 6) % 7) + 1;
-    if (weekday < site.weeklyRecordsWeekday || (weekday === site.weeklyRecordsWeekday && hour < site.weeklyRecordsHour)) continue;
+    return !(weekday < site.weeklyRecordsWeekday || (weekday === site.weeklyRecordsWeekday && hour < site.weeklyRecordsHour));
+  };
+  for (const listed of all) {
+    if (!due(listed)) continue;
+    // The list was read at the start of a sweep over every site: a setting changed meanwhile counts.
+    const [site] = await db.select().from(sites).where(eq(sites.id, listed.id));
+    if (!site || !due(site)) continue;
     const week = lastWeek(site.timeZone, now);
     const key = isoWeekKey(week.from);
     if (sent.has(`${site.id}|${key}`)) continue;
