@@ -123,8 +123,21 @@ export async function getRecordTotals(scope: RecordsScope, q: RecordsQuery): Pro
   return { ...t, ended, passRate: ended > 0 ? Math.round((t.cooled / ended) * 1000) / 10 : null };
 }
 
+/** Rows grouped by their batch, in the order given. */
+function byBatch<T extends { batchId: string }>(list: T[]) {
+  const m = new Map<string, T[]>();
+  for (const x of list) (m.get(x.batchId) ?? m.set(x.batchId, []).get(x.batchId)!).push(x);
+  return m;
+}
+
 /** One page of the matching batches, the total, and the page actually shown (clamped to the last). */
 export async function getRecords(scope: RecordsScope, q: RecordsQuery, now = Date.now()) {
+  const { readingsOf: _readings, ...page } = await recordPage(scope, q, now);
+  return page;
+}
+
+/** A page of records and the readings it was evaluated from (the print log lists them). */
+async function recordPage(scope: RecordsScope, q: RecordsQuery, now: number) {
   const where = matching(scope, q);
   const totals = await getRecordTotals(scope, q);
   const pageCount = Math.max(1, Math.ceil(totals.batches / q.size));
@@ -163,13 +176,12 @@ export async function getRecords(scope: RecordsScope, q: RecordsQuery, now = Dat
 
   const ids = rows.map((r) => r.batch.id);
   const rs = ids.length ? await db.select().from(readings).where(inArray(readings.batchId, ids)).orderBy(asc(readings.takenAt), asc(readings.receivedAt)) : [];
-  const byBatch = new Map<string, (typeof readings.$inferSelect)[]>();
-  for (const r of rs) (byBatch.get(r.batchId) ?? byBatch.set(r.batchId, []).get(r.batchId)!).push(r);
+  const readingsOf = byBatch(rs);
   const siteById = new Map(scope.sites.map((s) => [s.id, s]));
 
   const out = rows.map((row): RecordRow => {
     const site = siteById.get(row.batch.siteId)!;
-    const list = byBatch.get(row.batch.id) ?? [];
+    const list = readingsOf.get(row.batch.id) ?? [];
     const byId = new Map(list.map((r) => [r.id, r]));
     const evaluation = evaluateRows(site, row, list, now);
     return {
@@ -204,7 +216,7 @@ export async function getRecords(scope: RecordsScope, q: RecordsQuery, now = Dat
       }),
     };
   });
-  return { rows: out, totals, page, pageCount, clamped: page !== q.page };
+  return { rows: out, totals, page, pageCount, clamped: page !== q.page, readingsOf };
 }
 
 /** What the filters can offer: the scope's products, equipment and people, and the methods. */
@@ -248,21 +260,13 @@ export async function getPrintLog(site: Site, range: { from: string; to: string 
   const period = { from: range.from, to: cut ? lastDay : range.to };
   const query: RecordsQuery = { ...period, site: null, product: null, method: null, equipment: null, outcome: null, cook: null, late: false, unverified: false, sort: "started", dir: "asc", page: 1, size: 25 };
   const scope = { sites: [site] };
-  const totals = await getRecordTotals(scope, query);
-  const { rows } = await getRecords(scope, { ...query, size: PRINT_MAX_BATCHES as 25 }, now);
+  const { rows, totals, readingsOf } = await recordPage(scope, { ...query, size: PRINT_MAX_BATCHES as 25 }, now);
   const ids = rows.map((r) => r.id);
-  const [rs, acts, names] = await Promise.all([
-    ids.length ? db.select().from(readings).where(inArray(readings.batchId, ids)).orderBy(asc(readings.takenAt), asc(readings.receivedAt)) : [],
+  const [acts, names] = await Promise.all([
     ids.length ? db.select().from(correctiveActions).where(inArray(correctiveActions.batchId, ids)).orderBy(asc(correctiveActions.takenAt)) : [],
     db.select({ id: users.id, name: users.name }).from(users).where(eq(users.organisationId, site.organisationId)),
   ]);
   const who = new Map(names.map((u) => [u.id, u.name]));
-  const byBatch = <T extends { batchId: string }>(list: T[]) => {
-    const m = new Map<string, T[]>();
-    for (const x of list) (m.get(x.batchId) ?? m.set(x.batchId, []).get(x.batchId)!).push(x);
-    return m;
-  };
-  const readingsOf = byBatch(rs);
   const actionsOf = byBatch(acts);
   const batchesOut: PrintBatch[] = rows.map((row) => ({
     ...row,

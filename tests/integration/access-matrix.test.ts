@@ -1,3 +1,4 @@
+import { createHash } from "node:crypto";
 import { eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { shareLinks } from "~db/schema";
@@ -124,9 +125,9 @@ describe("access matrix generated from app/routes.ts", () => {
       tokens[w] = made.token!;
       clients[w] = new Client();
     }
-    const hash = async (token: string) => (await import("node:crypto")).createHash("sha256").update(token).digest("hex");
-    await db.update(shareLinks).set({ expiresAt: new Date(Date.now() - 60_000) }).where(eq(shareLinks.tokenHash, await hash(tokens.linkExpired)));
-    await db.update(shareLinks).set({ revokedAt: new Date(), revokedBy: k.t.people.qa.id }).where(eq(shareLinks.tokenHash, await hash(tokens.linkRevoked)));
+    const hash = (token: string) => createHash("sha256").update(token).digest("hex");
+    await db.update(shareLinks).set({ expiresAt: new Date(Date.now() - 60_000) }).where(eq(shareLinks.tokenHash, hash(tokens.linkExpired)));
+    await db.update(shareLinks).set({ revokedAt: new Date(), revokedBy: k.t.people.qa.id }).where(eq(shareLinks.tokenHash, hash(tokens.linkRevoked)));
     await uploadPhoto(k.cook);
   });
 
