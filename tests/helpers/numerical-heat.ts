@@ -112,7 +112,7 @@ export function integrateCrankNicolson(
   sys: LineSystem,
   initial: number[],
   timesS: number[],
-  opts: { growth?: number; maxStepS?: number } = {},
+  opts: { growth?: number; maxStepS?: number; stats?: { steps: number } } = {},
 ): number[][] {
   const n = sys.diag.length;
   const growth = opts.growth ?? 0.05;
@@ -147,6 +147,7 @@ export function integrateCrankNicolson(
       next = T;
       T = done;
       t += dt;
+      if (opts.stats) opts.stats.steps++;
       if (eulerSteps > 0) eulerSteps--;
       else step = Math.min(maxStep, step * (1 + growth));
     }
@@ -209,6 +210,10 @@ export function solveSlabNumerically(spec: {
   cells?: number;
   /** Largest time step (s); by default the run is split into about 4000 steps. */
   maxStepS?: number;
+  /** Growth of the steps from the tiny first one (0.05 by default: 5 % a step). */
+  growth?: number;
+  /** Filled with the number of steps taken (the start-up steps included). */
+  stats?: { steps: number };
 }): { sys: LineSystem; temperatures: number[][] } {
   const sys = buildLineSystem({
     power: 0,
@@ -221,7 +226,7 @@ export function solveSlabNumerically(spec: {
     ambientC: spec.ambientC,
   });
   const start = sys.centresM.map(spec.initialC);
-  return { sys, temperatures: integrateCrankNicolson(sys, start, spec.timesS, { maxStepS: spec.maxStepS }) };
+  return { sys, temperatures: integrateCrankNicolson(sys, start, spec.timesS, { maxStepS: spec.maxStepS, growth: spec.growth, stats: spec.stats }) };
 }
 
 /** Cylinder or sphere of radius R, uniform start: temperatures at the cell centres for each time. */

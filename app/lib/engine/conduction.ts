@@ -318,6 +318,28 @@ function evenStep(s: readonly number[]): number {
 
 const walkState = new Float64Array(4);
 
+// What a batch evaluation needs to know of its positions, kept for the last array asked about: unit
+// positions come from BaseSolution.unitPositions, which never changes an array once made, so the
+// same array (by identity) has the same step and the same centre points.
+interface GridInfo {
+  s: readonly number[];
+  centreS: number;
+  step: number; // evenStep(s)
+  centres: number[]; // indices j with s[j] === centreS
+  mirrored: boolean; // s[j] + s[m − 1 − j] = 1 to rounding (an even grid from face to face)
+}
+let lastGrid: GridInfo | null = null;
+function gridOf(s: readonly number[], centreS: number): GridInfo {
+  const last = lastGrid;
+  if (last !== null && last.s === s && last.centreS === centreS) return last;
+  const centres: number[] = [];
+  for (let j = 0; j < s.length; j++) if (s[j] === centreS) centres.push(j);
+  const step = evenStep(s);
+  const info = { s, centreS, step, centres, mirrored: step > 0 && Math.abs(s[0] + s[s.length - 1] - 1) <= 1e-15 };
+  lastGrid = info;
+  return info;
+}
+
 function scratchTable(m: number): Float64Array {
   return rowScratch.length >= m ? rowScratch : (rowScratch = new Float64Array(2 * m));
 }
@@ -558,8 +580,8 @@ abstract class ModalSeries implements Series1D {
       for (let j = 0; j < m; j++) if (this.earlyAt(s[j], fo)) out[j] = this.early(s[j], fo);
     }
     // The centre as value() gives it: by centre()'s rule.
-    const c = this.centreS();
-    for (let j = 0; j < m; j++) if (s[j] === c) out[j] = this.centre(fo);
+    const centres = gridOf(s, this.centreS()).centres;
+    for (let k = 0; k < centres.length; k++) out[centres[k]] = this.centre(fo);
   }
 
   // Eigenfunction values at the positions last asked for (by identity), one row per mode.
@@ -1013,9 +1035,9 @@ class SlabSeries extends ModalSeries {
   // B/√(ζ² + B²), no trigonometric call.
   protected eigenRows(s: readonly number[], from: number, to: number, t: Float64Array): void {
     const m = s.length;
-    const step = evenStep(s);
+    const step = gridOf(s, this.centreS()).step;
     for (let i = from; i < to; i++) {
-      if (step > 0) this.walkMode(i, s, step, t, i * m, 0, null);
+      if (step > 0) this.walkMode(i, s, m, step, t, i * m, 0, null);
       else {
         const row = i * m;
         const zi = this.zeta[i];
@@ -1026,18 +1048,25 @@ class SlabSeries extends ModalSeries {
   }
 
   protected addModes(s: readonly number[], n: number, d: number[], out: Float64Array): boolean {
-    const step = evenStep(s);
+    const grid = gridOf(s, this.centreS());
+    const step = grid.step;
     if (!(step > 0)) return false;
+    // A slab alike on both faces from a symmetric start is symmetric about its mid-plane: on an even
+    // grid from one face to the other (a profile), the first half of the points is walked and
+    // mirrored. The mirrored position differs from 1 − ξ by rounding only (≤ 1e-15).
+    const m = s.length;
+    const mirror = this.stride === 2 && grid.mirrored;
+    const walked = mirror ? (m + 1) >> 1 : m;
     let i = 0;
-    for (; i + 1 < n; i += 2) this.walkPair(i, s, step, this.amp[i] * d[i], this.amp[i + 1] * d[i + 1], out);
-    if (i < n) this.walkMode(i, s, step, out, 0, this.amp[i] * d[i], out);
+    for (; i + 1 < n; i += 2) this.walkPair(i, s, walked, step, this.amp[i] * d[i], this.amp[i + 1] * d[i + 1], out);
+    if (i < n) this.walkMode(i, s, walked, step, out, 0, this.amp[i] * d[i], out);
+    if (mirror) for (let j = walked; j < m; j++) out[j] = out[m - 1 - j];
     return true;
   }
 
-  // Mode i along evenly spaced positions: its values into t from `row` on, or (with `add`) w times
-  // its values added to `add`.
-  private walkMode(i: number, s: readonly number[], step: number, t: Float64Array, row: number, w: number, add: Float64Array | null): void {
-    const m = s.length;
+  // Mode i along the first m of evenly spaced positions: its values into t from `row` on, or (with
+  // `add`) w times its values added to `add`.
+  private walkMode(i: number, s: readonly number[], m: number, step: number, t: Float64Array, row: number, w: number, add: Float64Array | null): void {
     const th = this.zeta[i] * step;
     const sth = Math.sin(th);
     const c = turnCos(th, sth);
@@ -1067,8 +1096,7 @@ class SlabSeries extends ModalSeries {
 
   // Modes i and i + 1 side by side (two independent recurrences keep the processor busy), w0 and w1
   // times their values added to `add`, mode i first at every point as one mode at a time would.
-  private walkPair(i: number, s: readonly number[], step: number, w0: number, w1: number, add: Float64Array): void {
-    const m = s.length;
+  private walkPair(i: number, s: readonly number[], m: number, step: number, w0: number, w1: number, add: Float64Array): void {
     const th0 = this.zeta[i] * step;
     const th1 = this.zeta[i + 1] * step;
     const sin0 = Math.sin(th0);
