@@ -1,5 +1,6 @@
+import type { TFunction } from "i18next";
 import { useTranslation } from "react-i18next";
-import { Link } from "react-router";
+import { useNavigate } from "react-router";
 import type { CardData } from "~/server/station-entry.server";
 
 export const verdictStyle = {
@@ -24,13 +25,37 @@ export function clock(ms: number, timeZone: string, lang: string) {
   return f.format(ms);
 }
 
-export function BatchCard({ card, now, timeZone, to, pending = 0 }: { card: CardData; now: number; timeZone: string; to: string; pending?: number }) {
+/**
+ * The live view's cards: one translation hook for the list, and plain links whose taps the list
+ * turns into client-side navigations (a site may have 200 batches cooling; a router link per card
+ * costs its hooks 200 times on every render).
+ */
+export function BatchCards({ cards, now, timeZone, hrefOf, pendingOf }: { cards: CardData[]; now: number; timeZone: string; hrefOf: (id: string) => string; pendingOf: (id: string) => number }) {
   const { t, i18n } = useTranslation();
+  const navigate = useNavigate();
+  const onClick = (e: React.MouseEvent<HTMLUListElement>) => {
+    if (e.defaultPrevented || e.button !== 0 || e.metaKey || e.ctrlKey || e.shiftKey || e.altKey) return;
+    const a = (e.target as HTMLElement).closest("a[data-card-link]");
+    if (!a) return;
+    e.preventDefault();
+    navigate(a.getAttribute("href")!);
+  };
+  return (
+    <ul className="grid gap-4 md:grid-cols-2" onClick={onClick}>
+      {cards.map((c) => (
+        <BatchCard key={c.id} card={c} now={now} timeZone={timeZone} to={hrefOf(c.id)} pending={pendingOf(c.id)} t={t} lang={i18n.language} />
+      ))}
+    </ul>
+  );
+}
+
+function BatchCard({ card, now, timeZone, to, pending, t, lang }: { card: CardData; now: number; timeZone: string; to: string; pending: number; t: TFunction; lang: string }) {
   const overdue = card.nextDueAt !== null && now > card.nextDueAt;
   return (
     <li>
-      <Link
-        to={to}
+      <a
+        href={to}
+        data-card-link=""
         className={`block rounded-2xl border-2 bg-white p-5 shadow-sm hover:border-glacier ${overdue ? "border-ember ring-4 ring-ember-light" : "border-line"}`}
         data-testid="batch-card"
       >
@@ -58,7 +83,7 @@ export function BatchCard({ card, now, timeZone, to, pending = 0 }: { card: Card
             <dd className="text-xl font-extrabold">
               {card.nextStage?.deadline ? (
                 <>
-                  {clock(card.nextStage.deadline, timeZone, i18n.language)} <span className="text-base font-bold text-ink-soft">({countdown(card.nextStage.deadline - now)})</span>
+                  {clock(card.nextStage.deadline, timeZone, lang)} <span className="text-base font-bold text-ink-soft">({countdown(card.nextStage.deadline - now)})</span>
                 </>
               ) : (
                 "—"
@@ -72,9 +97,9 @@ export function BatchCard({ card, now, timeZone, to, pending = 0 }: { card: Card
           </p>
         ) : null}
         <p className={`mt-3 text-sm font-bold ${overdue ? "text-ember" : "text-ink-soft"}`}>
-          {card.nextDueAt === null ? null : overdue ? t("batch.readingOverdue", { time: countdown(now - card.nextDueAt).replace("−", "") }) : t("batch.nextReading", { time: clock(card.nextDueAt, timeZone, i18n.language) })}
+          {card.nextDueAt === null ? null : overdue ? t("batch.readingOverdue", { time: countdown(now - card.nextDueAt).replace("−", "") }) : t("batch.nextReading", { time: clock(card.nextDueAt, timeZone, lang) })}
         </p>
-      </Link>
+      </a>
     </li>
   );
 }

@@ -4,7 +4,7 @@ import { useTranslation } from "react-i18next";
 import { data, Form, Link, redirect } from "react-router";
 import { z } from "zod";
 import { sites, stationDevices } from "~db/schema";
-import { BatchCard } from "~/components/batch-card";
+import { BatchCards } from "~/components/batch-card";
 import { useLiveNow } from "~/components/use-live-now";
 import { PendingNotice, usePending } from "~/components/reading-form";
 import { listActive } from "~/server/batches.server";
@@ -98,6 +98,8 @@ export default function Station({ loaderData, actionData }: Route.ComponentProps
   const { station, people, cook, cards, timeZone, next } = loaderData;
   const now = useLiveNow(loaderData.now);
   const pending = usePending();
+  const pendingByBatch = new Map<string, number>();
+  for (const e of pending) pendingByBatch.set(e.batchId, (pendingByBatch.get(e.batchId) ?? 0) + 1);
   const [chosen, setChosen] = useState<string | null>(actionData?.userId || null);
   const [retiring, setRetiring] = useState(actionData?.intent === "retire");
 
@@ -194,11 +196,7 @@ export default function Station({ loaderData, actionData }: Route.ComponentProps
             <h2 id="active" className="mb-3 text-xl font-extrabold">
               {t("batch.active", { count: cards.length })}
             </h2>
-            <ul className="grid gap-4 md:grid-cols-2">
-              {cards.map((c) => (
-                <BatchCard key={c.id} card={c} now={now} timeZone={timeZone} to={`/station/batches/${c.id}`} pending={pending.filter((e) => e.batchId === c.id).length} />
-              ))}
-            </ul>
+            <BatchCards cards={cards} now={now} timeZone={timeZone} hrefOf={(id) => `/station/batches/${id}`} pendingOf={(id) => pendingByBatch.get(id) ?? 0} />
           </section>
         ) : null}
       </main>

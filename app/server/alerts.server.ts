@@ -1,4 +1,4 @@
-import { and, asc, eq, gte, inArray, isNull, lt, sql } from "drizzle-orm";
+import { and, asc, eq, gte, inArray, isNull, lt, or, sql } from "drizzle-orm";
 import { alertDeliveries, alertEvents, alertRecipients, batches, memberships, products, sites, users } from "~db/schema";
 import type { Assessment } from "~/lib/engine/assess";
 import { recordAudit } from "./audit.server";
@@ -97,17 +97,19 @@ export async function raiseEvent(site: Site, input: { kind: AlertKind; key: stri
 
 /** Marks the open events of a batch resolved when their condition has cleared (no more escalation). */
 async function resolve(batchId: string, kinds: AlertKind[], keep: string[], now: number) {
+  await resolveEach(batchId, [{ kinds, keep }], now);
+}
+
+/** resolve() for several sets of kinds at once, each keeping its own keys: one statement. */
+async function resolveEach(batchId: string, sets: { kinds: AlertKind[]; keep: string[] }[], now: number) {
+  if (!sets.length) return;
+  const each = sets.map(({ kinds, keep }) =>
+    and(inArray(alertEvents.kind, kinds), keep.length ? sql`${alertEvents.dedupeKey} NOT IN (${sql.join(keep.map((k) => sql`${k}`), sql`, `)})` : sql`true`),
+  );
   await db
     .update(alertEvents)
     .set({ resolvedAt: new Date(now) })
-    .where(
-      and(
-        eq(alertEvents.batchId, batchId),
-        inArray(alertEvents.kind, kinds),
-        isNull(alertEvents.resolvedAt),
-        keep.length ? sql`${alertEvents.dedupeKey} NOT IN (${sql.join(keep.map((k) => sql`${k}`), sql`, `)})` : sql`true`,
-      ),
-    );
+    .where(and(eq(alertEvents.batchId, batchId), isNull(alertEvents.resolvedAt), or(...each)));
 }
 
 /**
@@ -140,7 +142,9 @@ export async function alertsForBatch(
     if (ev) raised.push(ev.id);
   }
   const missedKeys = missed.map((s) => `${batch.id}:a${attempt}:s${s.stage}`);
-  if (a.evaluation.nextStep === null) await resolve(batch.id, ["stage_missed"], missedKeys, now);
+  // What clears is cleared at the end, every kind in one statement.
+  const clear: { kinds: AlertKind[]; keep: string[] }[] = [];
+  if (a.evaluation.nextStep === null) clear.push({ kinds: ["stage_missed"], keep: missedKeys });
 
   // The forecast: the first open stage the model expects to miss.
   const offKeys: string[] = [];
@@ -169,7 +173,7 @@ export async function alertsForBatch(
       if (ev) raised.push(ev.id);
     }
   }
-  await resolve(batch.id, ["off_track"], offKeys, now);
+  clear.push({ kinds: ["off_track"], keep: offKeys });
 
   // The routine: a reading is due every interval; past the grace it is overdue.
   const overdueKeys: string[] = [];
@@ -182,7 +186,8 @@ export async function alertsForBatch(
       if (ev) raised.push(ev.id);
     }
   }
-  await resolve(batch.id, ["reading_overdue"], overdueKeys, now);
+  clear.push({ kinds: ["reading_overdue"], keep: overdueKeys });
+  await resolveEach(batch.id, clear, now);
   return raised;
 }
 
@@ -213,15 +218,27 @@ async function offTrackKey(batchId: string, base: string, now: number) {
  * its queued entries, or a cook entering a morning's readings one after another, must not trigger an
  * "overdue" or "missed" that the next entry in the same burst disproves.
  */
-export async function alertsAfterEntry(site: Site, batchId: string, a: Assessment | undefined, now = Date.now()) {
+export async function alertsAfterEntry(
+  site: Site,
+  batchId: string,
+  a: Assessment | undefined,
+  now = Date.now(),
+  /** The batch as the caller has just settled it (its state, its last reading's time), when it has. */
+  known?: { id: string; state: string; lotCode: string; product: string; last: number | null },
+) {
   if (!a) return;
+  const row = known ?? (await batchForAlerts(batchId));
+  if (!row) return;
+  await alertsForBatch(site, row, row.product, a, row.last, now, false).catch((e) => console.error("alerts after entry:", e));
+}
+
+async function batchForAlerts(batchId: string) {
   const [row] = await db
     .select({ id: batches.id, state: batches.state, lotCode: batches.lotCode, product: products.name, last: sql<Date | null>`(select max(taken_at) from readings r where r.batch_id = ${batches.id})` })
     .from(batches)
     .innerJoin(products, eq(products.id, batches.productId))
     .where(eq(batches.id, batchId));
-  if (!row) return;
-  await alertsForBatch(site, row, row.product, a, row.last ? new Date(row.last).getTime() : null, now, false).catch((e) => console.error("alerts after entry:", e));
+  return row ? { ...row, last: row.last ? new Date(row.last).getTime() : null } : null;
 }
 
 /** Local calendar date and hour of an instant in a time zone. */

@@ -39,12 +39,20 @@ export function assessWithReuse(batchId: string, key: string, now: number, fresh
 
 /**
  * Every part of a batch's record that `assessInput` (batches.server.ts) reads, the clock aside, in one
- * string: keep the two in step. Readings are append-only, and a correction is a reading of its own.
+ * string: keep the two in step. Readings are append-only for the app (its database role may not
+ * change or delete one, and a correction is a reading of its own), so a batch's readings are named by
+ * how many there are and when the latest arrived: `readingsKey`, from the rows or from SQL.
  */
 export function recordKey(site: Pick<typeof sites.$inferSelect, "temperatureUnit">, row: BatchRow, rows: (typeof readings.$inferSelect)[], movedAt: number | undefined) {
   const b = row.batch;
   const parts: unknown[] = [site.temperatureUnit, b.ruleSetCode, getRuleSet(b.ruleSetCode)?.version, b.startedAt.getTime(), b.panSize, b.panLengthMm, b.panWidthMm, b.panDepthMm, b.fillDepthMm, b.panMaterial, b.lid, b.method];
-  parts.push(JSON.stringify(b.composition ?? row.product.composition), row.learnedLnS, row.learnedSd, row.learnedBatches, movedAt);
-  for (const r of rows) parts.push(r.id, r.takenAt.getTime(), r.receivedAt.getTime(), r.valueEntered, r.unitEntered, r.valueC, r.kind, r.correctsReadingId);
+  parts.push(JSON.stringify(b.composition ?? row.product.composition), row.learnedLnS, row.learnedSd, row.learnedBatches, movedAt, readingsKey(rows));
   return parts.join("|");
+}
+
+/** How many readings and when the latest arrived (ms): what names an append-only set of them. */
+export function readingsKey(rows: readonly Pick<typeof readings.$inferSelect, "receivedAt">[]) {
+  let last = -Infinity;
+  for (const r of rows) if (r.receivedAt.getTime() > last) last = r.receivedAt.getTime();
+  return `${rows.length}@${last}`;
 }

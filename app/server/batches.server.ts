@@ -7,7 +7,7 @@ import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
 import { getRuleSet } from "~/lib/rule-sets";
 import { toCelsius } from "~/lib/temperature";
 import { alertsAfterEntry } from "./alerts.server";
-import { assessWithReuse, recordKey } from "./assessment-cache.server";
+import { assessWithReuse, readingsKey, recordKey } from "./assessment-cache.server";
 import { recordAudit, type Actor } from "./audit.server";
 import { db } from "./db.server";
 
@@ -187,12 +187,15 @@ export async function startBatch(site: Site, who: Entrant, input: StartBatchInpu
 }
 
 export async function recordReading(site: Site, who: Entrant, batchId: string, input: ReadingInput, now = Date.now()): Promise<Outcome<typeof readings.$inferSelect>> {
-  // The batch and its readings in one round trip (the readings are used only once the batch is this site's).
-  const [[batch], earlier] = await Promise.all([
-    db.select().from(batches).where(and(eq(batches.id, batchId), eq(batches.siteId, site.id))),
+  // The batch (with what its assessment reads), its readings and its moves in one round trip (the
+  // readings count only once the batch is this site's).
+  const [[joined], earlier, moves] = await Promise.all([
+    batchRowQuery(site, batchId),
     db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt)),
+    movesQuery(batchId),
   ]);
-  if (!batch) return fail({ batch: "not found" }, 404);
+  if (!joined) return fail({ batch: "not found" }, 404);
+  const batch = joined.batch;
   const dup = earlier.find((r) => r.clientId === input.clientId);
   if (dup) return { ok: true, value: dup, created: false, warnings: [] };
   // An ended batch takes corrections only (a mistyped reading may have ended it).
@@ -258,7 +261,10 @@ export async function recordReading(site: Site, who: Entrant, batchId: string, i
     const [r] = await db.select().from(readings).where(and(eq(readings.batchId, batch.id), eq(readings.clientId, input.clientId)));
     return { ok: true, value: r, created: false, warnings: [] };
   }
-  const assessment = await settleState(site, batch.id, now);
+  // Settled from the batch as read above and its readings read again now: another entry for the
+  // same batch may have landed meanwhile.
+  const after = await db.select().from(readings).where(eq(readings.batchId, batch.id)).orderBy(asc(readings.takenAt));
+  const assessment = await settleState(site, batch.id, now, { row: joined, rows: after, movedAt: latestMove(moves) });
   return { ok: true, value: row, created: true, warnings, assessment };
 }
 
@@ -325,19 +331,34 @@ export function effectiveReadings<R extends Pick<typeof readings.$inferSelect, "
 
 /** The rule's evaluation and the engine's prediction for a batch, now. */
 export async function assess(site: Site, batchId: string, now = Date.now()): Promise<Assessment | null> {
+  return (await assessRead(site, batchId, now))?.assessment ?? null;
+}
+
+// A batch of this site with what its assessment reads besides the readings: product and equipment.
+function batchRowQuery(site: Pick<Site, "id">, batchId: string) {
+  return db
+    .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
+    .from(batches)
+    .innerJoin(products, eq(products.id, batches.productId))
+    .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
+    .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+}
+
+function movesQuery(batchId: string) {
+  return db.select({ takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method")));
+}
+
+const latestMove = (moves: { takenAt: Date }[]) => (moves.length ? Math.max(...moves.map((m) => m.takenAt.getTime())) : undefined);
+
+/** What the batch's assessment read, with it: the row, the readings (taken-at order) and the last move. */
+type Known = { row: BatchRow; rows: (typeof readings.$inferSelect)[]; movedAt: number | undefined };
+
+async function assessRead(site: Site, batchId: string, now: number): Promise<(Known & { assessment: Assessment }) | null> {
   // Three reads at once; the readings and moves count only once the batch is this site's.
-  const [[row], rows, moves] = await Promise.all([
-    db
-      .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
-      .from(batches)
-      .innerJoin(products, eq(products.id, batches.productId))
-      .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
-      .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id))),
-    db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt)),
-    db.select({ takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method"))),
-  ]);
+  const [[row], rows, moves] = await Promise.all([batchRowQuery(site, batchId), db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt)), movesQuery(batchId)]);
   if (!row) return null;
-  return assessRows(site, row, rows, now, moves.length ? Math.max(...moves.map((m) => m.takenAt.getTime())) : undefined, true);
+  const movedAt = latestMove(moves);
+  return { row, rows, movedAt, assessment: assessRows(site, row, rows, now, movedAt, true) };
 }
 
 export type BatchRow = {
@@ -393,12 +414,17 @@ function assessInput(site: Pick<Site, "temperatureUnit">, row: BatchRow, rows: (
 }
 
 /** The state follows the record: cooled once the readings meet every stage, cooling again if a correction undoes that. */
-export async function settleState(site: Site, batchId: string, now: number) {
-  const a = await assess(site, batchId, now);
-  if (!a) return undefined;
+export async function settleState(site: Site, batchId: string, now: number, known?: Known) {
+  const read = known ? { ...known, assessment: assessRows(site, known.row, known.rows, now, known.movedAt, true) } : await assessRead(site, batchId, now);
+  if (!read) return undefined;
+  const a = read.assessment;
+  const was = read.row.batch;
   const state = a.evaluation.outcome === "passed" ? (a.evaluation.attempts.length > 1 ? "cooled_after_reheat" : "cooled") : "cooling";
-  await refreshSnapshot(site, batchId, a, now, state);
-  await db.transaction(async (tx) => {
+  const lastAt = read.rows.length ? Math.max(...read.rows.map((r) => r.takenAt.getTime())) : null;
+  // With the row in hand, the derived columns are written only when they change.
+  await refreshSnapshot(site, batchId, a, now, state, was.state === state ? { row: was, lastReadingAt: lastAt } : undefined);
+  // The state moves (and the audit, and the equipment's learning) only when it changes.
+  if (was.state !== state && was.state !== "discarded") await db.transaction(async (tx) => {
     const [b] = await tx
       .update(batches)
       .set({ state, endedAt: state === "cooling" ? null : new Date(now) })
@@ -409,7 +435,7 @@ export async function settleState(site: Site, batchId: string, now: number) {
     if (state !== "cooling") await learnFromBatch(tx, site, batchId, a);
   });
   // An entry can put a batch off track (or show a stage missed) at once, without waiting for the sweep.
-  await alertsAfterEntry(site, batchId, a, now);
+  await alertsAfterEntry(site, batchId, a, now, { id: batchId, state: was.state === "discarded" ? was.state : state, lotCode: was.lotCode, product: read.row.product.name, last: lastAt });
   return a;
 }
 
@@ -487,6 +513,51 @@ async function learnFromBatch(tx: Parameters<Parameters<typeof db.transaction>[0
  * assessment of the same record a few seconds old is reused (see assessment-cache.server.ts) unless
  * `fresh`: the alert sweep asks for fresh ones, and leaves them for the next readers.
  */
+type ReadingRow = typeof readings.$inferSelect;
+// Each active batch's readings as this process last read them, with their readingsKey. Readings are
+// append-only for the app, so a batch whose count and latest arrival are unchanged has the same
+// readings: the live view, polled every 30 s by every open page, reads only the batches that changed.
+const readingsKept = new Map<string, { key: string; rows: ReadingRow[]; usedAt: number }>();
+const READINGS_KEPT_MAX = 20_000; // batches; far above any site's active batches
+let readingsPrunedAt = 0;
+
+/** The readings of these batches (taken-at order), read again only for those with new ones. */
+async function readingsOfBatches(batchIds: string[], now: number): Promise<Map<string, ReadingRow[]>> {
+  const stats = await db
+    .select({ batchId: readings.batchId, count: sql<number>`count(*)::int`, last: sql<Date>`max(${readings.receivedAt})`.mapWith(readings.receivedAt) })
+    .from(readings)
+    .where(inArray(readings.batchId, batchIds))
+    .groupBy(readings.batchId);
+  const out = new Map<string, ReadingRow[]>();
+  const stale: string[] = [];
+  for (const st of stats) {
+    const kept = readingsKept.get(st.batchId);
+    if (kept && kept.key === `${st.count}@${st.last.getTime()}`) {
+      kept.usedAt = now;
+      out.set(st.batchId, kept.rows);
+    } else stale.push(st.batchId);
+  }
+  if (stale.length) {
+    const fresh = new Map<string, ReadingRow[]>();
+    // Grouped in one pass, each batch's readings stay in taken-at order.
+    for (const r of await db.select().from(readings).where(inArray(readings.batchId, stale)).orderBy(asc(readings.takenAt))) {
+      const list = fresh.get(r.batchId);
+      if (list) list.push(r);
+      else fresh.set(r.batchId, [r]);
+    }
+    for (const [id, list] of fresh) {
+      out.set(id, list);
+      readingsKept.set(id, { key: readingsKey(list), rows: list, usedAt: now });
+    }
+  }
+  if (readingsKept.size > READINGS_KEPT_MAX) readingsKept.clear();
+  if (now - readingsPrunedAt > 600_000) {
+    readingsPrunedAt = now;
+    for (const [id, kept] of readingsKept) if (now - kept.usedAt > 600_000) readingsKept.delete(id);
+  }
+  return out;
+}
+
 export async function listActive(siteRows: Site[], now = Date.now(), options: { fresh?: boolean } = {}) {
   if (siteRows.length === 0) return [];
   const ids = siteRows.map((s) => s.id);
@@ -498,18 +569,13 @@ export async function listActive(siteRows: Site[], now = Date.now(), options: { 
     .where(and(inArray(batches.siteId, ids), eq(batches.state, "cooling")))
     .orderBy(asc(batches.startedAt));
   const ids2 = rows.map((r) => r.batch.id);
-  const all = rows.length ? await db.select().from(readings).where(inArray(readings.batchId, ids2)).orderBy(asc(readings.takenAt)) : [];
-  const moves = rows.length
-    ? await db.select({ batchId: correctiveActions.batchId, takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(inArray(correctiveActions.batchId, ids2), eq(correctiveActions.kind, "change_method")))
-    : [];
+  const [readingsOf, moves] = rows.length
+    ? await Promise.all([
+        readingsOfBatches(ids2, now),
+        db.select({ batchId: correctiveActions.batchId, takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(inArray(correctiveActions.batchId, ids2), eq(correctiveActions.kind, "change_method"))),
+      ])
+    : [new Map<string, (typeof readings.$inferSelect)[]>(), []];
   const siteById = new Map(siteRows.map((s) => [s.id, s]));
-  const readingsOf = new Map<string, (typeof readings.$inferSelect)[]>();
-  // Grouped in one pass, each batch's readings stay in taken-at order.
-  for (const r of all) {
-    const list = readingsOf.get(r.batchId);
-    if (list) list.push(r);
-    else readingsOf.set(r.batchId, [r]);
-  }
   const movedAt = new Map<string, number>();
   for (const m of moves) movedAt.set(m.batchId, Math.max(movedAt.get(m.batchId) ?? -Infinity, m.takenAt.getTime()));
   return rows.map((row) => {

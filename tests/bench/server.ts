@@ -3,6 +3,8 @@
 // the environment. Figures, not pass/fail: it exits non-zero only when a reading was lost or doubled.
 //   BENCH_SECONDS (20)  BENCH_CONNECTIONS (50)  BENCH_LIVE_CONNECTIONS (10)  BENCH_EXPORTS (10)  BENCH_PACE_SECONDS (5)
 //   BENCH_TABLETS (50)  BENCH_FAULT_SECONDS (20)
+//   BENCH_PHASES: a comma-separated subset of live-alone, poll-alone, paced, spread, mixed, posts-alone,
+//   export, bare (default: all), e.g. to profile one of them with BENCH_APP_NODE_ARGS.
 import autocannon, { type Instance } from "autocannon";
 import { cpus } from "node:os";
 import pg from "pg";
@@ -20,6 +22,8 @@ const COOLING = 200;
 const PER_DAY = 40;
 // The bare INSERTs get the app's own pool size, so the comparison is of the work, not of connections.
 const POOL_MAX = Number(process.env.DB_POOL_MAX ?? 10);
+const PHASES = process.env.BENCH_PHASES?.split(",").map((p) => p.trim()).filter(Boolean);
+const want = (phase: string) => !PHASES || PHASES.includes(phase);
 
 const app = new AppProcess();
 let stopping = false;
@@ -37,6 +41,7 @@ const { signedIn } = await import("../helpers/client");
 const { faultsHeld, printFaults, runFaults } = await import("./server-faults");
 
 type Measured = { latencies: number[]; statuses: Map<number, number>; errors: number; seconds: number };
+const none = (): Measured => ({ latencies: [], statuses: new Map(), errors: 0, seconds: 1 });
 
 /** Runs an autocannon instance to its end, keeping every response's latency (autocannon reports no p95). */
 async function measure(inst: Instance): Promise<Measured> {
@@ -114,16 +119,16 @@ try {
     await measure(autocannon({ url: APP_URL, connections: 2, duration: 2, headers: station, requests: [{ method: "GET", path: "/station" }] }));
     await measure(posts("warm-up", 2));
 
-    const liveAlone = await measure(liveView(Math.max(5, SECONDS / 2)));
-    figures.push(figure(`saturated: live view GET /station alone (${LIVE_CONNECTIONS} conn., ${COOLING} active batches)`, liveAlone));
+    const liveAlone = want("live-alone") ? await measure(liveView(Math.max(5, SECONDS / 2))) : none();
+    if (want("live-alone")) figures.push(figure(`saturated: live view GET /station alone (${LIVE_CONNECTIONS} conn., ${COOLING} active batches)`, liveAlone));
     // What an open station page fetches when it polls: the loader's data, without the HTML.
-    const pollAlone = await measure(autocannon({ url: APP_URL, connections: LIVE_CONNECTIONS, duration: Math.max(5, SECONDS / 2), headers: station, requests: [{ method: "GET", path: "/station.data" }] }));
-    figures.push(figure(`saturated: live view poll GET /station.data alone (${LIVE_CONNECTIONS} conn.)`, pollAlone));
+    const pollAlone = want("poll-alone") ? await measure(autocannon({ url: APP_URL, connections: LIVE_CONNECTIONS, duration: Math.max(5, SECONDS / 2), headers: station, requests: [{ method: "GET", path: "/station.data" }] })) : none();
+    if (want("poll-alone")) figures.push(figure(`saturated: live view poll GET /station.data alone (${LIVE_CONNECTIONS} conn.)`, pollAlone));
     // A busy kitchen's pace (still far above a real one: a station page polls every 30 s): each tablet
     // sends a reading and each station loads the live view every PACE seconds.
-    const [pacedPosts, pacedLive] = await Promise.all([measure(posts("load-paced", SECONDS, CONNECTIONS / PACE)), measure(liveView(SECONDS, Math.max(1, LIVE_CONNECTIONS / PACE)))]);
-    figures.push(figure(`paced: reading POST, ${CONNECTIONS} tablets × 1 per ${PACE} s, while the live view polls`, pacedPosts));
-    figures.push(figure(`paced: live view GET /station, ${LIVE_CONNECTIONS} stations × 1 per ${PACE} s, during the POSTs`, pacedLive));
+    const [pacedPosts, pacedLive] = want("paced") ? await Promise.all([measure(posts("load-paced", SECONDS, CONNECTIONS / PACE)), measure(liveView(SECONDS, Math.max(1, LIVE_CONNECTIONS / PACE)))]) : [none(), none()];
+    if (want("paced")) figures.push(figure(`paced: reading POST, ${CONNECTIONS} tablets × 1 per ${PACE} s, while the live view polls`, pacedPosts));
+    if (want("paced")) figures.push(figure(`paced: live view GET /station, ${LIVE_CONNECTIONS} stations × 1 per ${PACE} s, during the POSTs`, pacedLive));
     // autocannon's overallRate releases each second's requests together (a burst every second), so the
     // paced phase above measures bursts. Here each tablet and station keeps its own clock instead, at a
     // random phase, one request every PACE s on average: what a kitchen's tablets look like.
@@ -174,15 +179,15 @@ try {
       await Promise.all([...Array.from({ length: CONNECTIONS }, (_, j) => tablet(j)), ...Array.from({ length: LIVE_CONNECTIONS }, () => stationPoll())]);
       return out;
     };
-    const spreadOut = await spread(SECONDS);
-    figures.push(figure(`spread: reading POST, ${CONNECTIONS} tablets × 1 per ${PACE} s each on its own clock`, spreadOut.posts));
-    figures.push(figure(`spread: live view GET /station, ${LIVE_CONNECTIONS} stations × 1 per ${PACE} s, meanwhile`, spreadOut.live));
+    const spreadOut = want("spread") ? await spread(SECONDS) : { posts: none(), live: none() };
+    if (want("spread")) figures.push(figure(`spread: reading POST, ${CONNECTIONS} tablets × 1 per ${PACE} s each on its own clock`, spreadOut.posts));
+    if (want("spread")) figures.push(figure(`spread: live view GET /station, ${LIVE_CONNECTIONS} stations × 1 per ${PACE} s, meanwhile`, spreadOut.live));
     // Saturation: every connection sends again as soon as it is answered.
-    const [mixedPosts, mixedLive] = await Promise.all([measure(posts("load-mixed", SECONDS)), measure(liveView(SECONDS))]);
-    figures.push(figure(`saturated: reading POST while the live view polls (${CONNECTIONS} conn.)`, mixedPosts));
-    figures.push(figure(`saturated: live view GET /station during the POSTs (${LIVE_CONNECTIONS} conn.)`, mixedLive));
-    const alone = await measure(posts("load-alone", SECONDS));
-    figures.push(figure(`saturated: reading POST alone (${CONNECTIONS} conn.)`, alone));
+    const [mixedPosts, mixedLive] = want("mixed") ? await Promise.all([measure(posts("load-mixed", SECONDS)), measure(liveView(SECONDS))]) : [none(), none()];
+    if (want("mixed")) figures.push(figure(`saturated: reading POST while the live view polls (${CONNECTIONS} conn.)`, mixedPosts));
+    if (want("mixed")) figures.push(figure(`saturated: live view GET /station during the POSTs (${LIVE_CONNECTIONS} conn.)`, mixedLive));
+    const alone = want("posts-alone") ? await measure(posts("load-alone", SECONDS)) : none();
+    if (want("posts-alone")) figures.push(figure(`saturated: reading POST alone (${CONNECTIONS} conn.)`, alone));
 
     // A week's export, one download at a time, every byte read.
     const qa = await signedIn(k.tenant.people.qa.email, k.tenant.people.qa.password);
@@ -190,7 +195,7 @@ try {
     const exportMs: number[] = [];
     let bytes = 0;
     const exportStart = Date.now();
-    for (let i = 0; i < EXPORTS; i++) {
+    for (let i = 0; i < (want("export") ? EXPORTS : 0); i++) {
       const s = performance.now();
       const res = await qa.get(exportPath);
       const body = await res.arrayBuffer();
@@ -198,13 +203,13 @@ try {
       bytes = body.byteLength;
       exportMs.push(performance.now() - s);
     }
-    figures.push({ what: `week's export .xlsx (${k.week.batches} batches, sequential)`, requests: EXPORTS, seconds: (Date.now() - exportStart) / 1000, latencies: exportMs, notes: `200×${EXPORTS}, ${(bytes / 1024).toFixed(0)} KiB each` });
+    if (want("export")) figures.push({ what: `week's export .xlsx (${k.week.batches} batches, sequential)`, requests: EXPORTS, seconds: (Date.now() - exportStart) / 1000, latencies: exportMs, notes: `200×${EXPORTS}, ${(bytes / 1024).toFixed(0)} KiB each` });
 
     // The same reading row, INSERTed straight through pg by as many loops as the app had clients.
     const bare = new pg.Pool({ connectionString: process.env.DATABASE_URL, max: POOL_MAX });
     bare.on("error", () => {});
     const bareMs: number[] = [];
-    const bareEnd = Date.now() + SECONDS * 1000;
+    const bareEnd = Date.now() + (want("bare") ? SECONDS * 1000 : 0);
     const bareStart = Date.now();
     let m = 0;
     await Promise.all(
@@ -223,7 +228,7 @@ try {
     );
     const bareSeconds = (Date.now() - bareStart) / 1000;
     await bare.end();
-    figures.push({ what: `bare INSERT of the reading row through pg (${CONNECTIONS} loops, pool of ${POOL_MAX})`, requests: bareMs.length, seconds: bareSeconds, latencies: bareMs });
+    if (want("bare")) figures.push({ what: `bare INSERT of the reading row through pg (${CONNECTIONS} loops, pool of ${POOL_MAX})`, requests: bareMs.length, seconds: bareSeconds, latencies: bareMs });
 
     // Every reading answered with a 2xx is in the database exactly once.
     const { rows } = await pool.query<{ stored: number; distinct: number; acked: number }>(
