@@ -1,4 +1,5 @@
 import type { TFunction } from "i18next";
+import { useMemo } from "react";
 import { useTranslation } from "react-i18next";
 import { useNavigate } from "react-router";
 import type { CardData } from "~/server/station-entry.server";
@@ -40,16 +41,43 @@ export function BatchCards({ cards, now, timeZone, hrefOf, pendingOf }: { cards:
     e.preventDefault();
     navigate(a.getAttribute("href")!);
   };
+  // The words every card shares, translated once for the list.
+  const labels = useMemo(() => cardLabels(t), [t, i18n.language]);
   return (
     <ul className="grid gap-4 md:grid-cols-2" onClick={onClick}>
       {cards.map((c) => (
-        <BatchCard key={c.id} card={c} now={now} timeZone={timeZone} to={hrefOf(c.id)} pending={pendingOf(c.id)} t={t} lang={i18n.language} />
+        <BatchCard key={c.id} card={c} now={now} timeZone={timeZone} to={hrefOf(c.id)} pending={pendingOf(c.id)} t={t} labels={labels} lang={i18n.language} />
       ))}
     </ul>
   );
 }
 
-function BatchCard({ card, now, timeZone, to, pending, t, lang }: { card: CardData; now: number; timeZone: string; to: string; pending: number; t: TFunction; lang: string }) {
+/**
+ * A message with one value, translated once: the translation of the key with a marker for the value,
+ * split around it (values are not escaped by the translations, React escapes the text).
+ */
+function template(t: TFunction, key: string, name: string): (value: string) => string {
+  const marker = "\u0000";
+  const parts = String(t(key, { [name]: marker })).split(marker);
+  return parts.length === 2 ? (value) => parts[0] + value + parts[1] : (value) => String(t(key, { [name]: value }));
+}
+
+function cardLabels(t: TFunction) {
+  return {
+    lot: t("batch.lot"),
+    lastReading: t("batch.lastReading"),
+    late: t("batch.late"),
+    allMet: t("batch.allMet"),
+    verdict: { ahead: t("verdict.ahead"), tight: t("verdict.tight"), behind: t("verdict.behind") },
+    age: template(t, "batch.age", "time"),
+    nextLimit: template(t, "batch.nextLimit", "limit"),
+    readingOverdue: template(t, "batch.readingOverdue", "time"),
+    nextReading: template(t, "batch.nextReading", "time"),
+  };
+}
+type CardLabels = ReturnType<typeof cardLabels>;
+
+function BatchCard({ card, now, timeZone, to, pending, t, labels: l, lang }: { card: CardData; now: number; timeZone: string; to: string; pending: number; t: TFunction; labels: CardLabels; lang: string }) {
   const overdue = card.nextDueAt !== null && now > card.nextDueAt;
   return (
     <li>
@@ -63,23 +91,23 @@ function BatchCard({ card, now, timeZone, to, pending, t, lang }: { card: CardDa
           <div>
             <p className="text-lg font-extrabold">{card.product}</p>
             <p className="text-sm text-ink-soft">
-              {t("batch.lot")} {card.lotCode} · {t("batch.age", { time: countdown(now - card.startedAt).replace("−", "") })}
+              {l.lot} {card.lotCode} · {l.age(countdown(now - card.startedAt).replace("−", ""))}
             </p>
           </div>
           <span className={`rounded-xl border-2 px-3 py-1 text-sm font-extrabold ${verdictStyle[card.verdict]}`} data-testid="verdict">
-            {t(`verdict.${card.verdict}`)}
+            {l.verdict[card.verdict]}
           </span>
         </div>
         <dl className="mt-4 grid grid-cols-2 gap-3 text-base">
           <div>
-            <dt className="text-sm text-ink-soft">{t("batch.lastReading")}</dt>
+            <dt className="text-sm text-ink-soft">{l.lastReading}</dt>
             <dd className="text-xl font-extrabold">
               {card.lastReading ? `${card.lastReading.value} °${card.lastReading.unit}` : "—"}
-              {card.lastReading?.late ? <span className="ml-2 rounded bg-amber-light px-1 text-sm text-amber">{t("batch.late")}</span> : null}
+              {card.lastReading?.late ? <span className="ml-2 rounded bg-amber-light px-1 text-sm text-amber">{l.late}</span> : null}
             </dd>
           </div>
           <div>
-            <dt className="text-sm text-ink-soft">{card.nextStage ? t("batch.nextLimit", { limit: `${card.nextStage.limit.value} °${card.nextStage.limit.unit}` }) : t("batch.allMet")}</dt>
+            <dt className="text-sm text-ink-soft">{card.nextStage ? l.nextLimit(`${card.nextStage.limit.value} °${card.nextStage.limit.unit}`) : l.allMet}</dt>
             <dd className="text-xl font-extrabold">
               {card.nextStage?.deadline ? (
                 <>
@@ -97,7 +125,7 @@ function BatchCard({ card, now, timeZone, to, pending, t, lang }: { card: CardDa
           </p>
         ) : null}
         <p className={`mt-3 text-sm font-bold ${overdue ? "text-ember" : "text-ink-soft"}`}>
-          {card.nextDueAt === null ? null : overdue ? t("batch.readingOverdue", { time: countdown(now - card.nextDueAt).replace("−", "") }) : t("batch.nextReading", { time: clock(card.nextDueAt, timeZone, lang) })}
+          {card.nextDueAt === null ? null : overdue ? l.readingOverdue(countdown(now - card.nextDueAt).replace("−", "")) : l.nextReading(clock(card.nextDueAt, timeZone, lang))}
         </p>
       </a>
     </li>
