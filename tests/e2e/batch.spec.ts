@@ -100,6 +100,13 @@ test("a cook starts a batch on the station, logs a reading with the keypad and s
   await expect(card).toBeVisible();
   await expect(card).toContainText("144 °F");
   await page.screenshot({ path: `${SCREENS}/station-cards.png`, fullPage: true });
+
+  // A card is a plain link that the list turns into a client-side navigation: the page is not reloaded.
+  await page.evaluate(() => ((window as unknown as { stayed: boolean }).stayed = true));
+  await card.click();
+  await expect(page).toHaveURL(/\/station\/batches\/[0-9a-f-]{36}$/);
+  await expect(page.getByRole("cell", { name: "144 °F" })).toBeVisible();
+  expect(await page.evaluate(() => (window as unknown as { stayed?: boolean }).stayed)).toBe(true);
 });
 
 test("a bad temperature gets a message on the field and stores nothing", async ({ page }) => {

@@ -54,14 +54,17 @@ describe("reusing a batch's assessment", () => {
   it("the key changes with a new reading, a correction, a move, the method and what the equipment learned", () => {
     const batch = { id: "b", ruleSetCode: fda.code, startedAt: new Date(t0), panSize: "gn-1/1", panLengthMm: null, panWidthMm: null, panDepthMm: 65, fillDepthMm: 50, panMaterial: "stainless-steel", lid: false, method: "walk-in", composition: { water: 80, protein: 20 } } as unknown as typeof batches.$inferSelect;
     const row: BatchRow = { batch, product: { composition: { water: 80, protein: 20 } } as unknown as typeof products.$inferSelect, learnedLnS: null, learnedSd: null, learnedBatches: null };
-    const reading = (id: string, value: number, corrects: string | null = null) =>
-      ({ id, takenAt: new Date(t0), receivedAt: new Date(t0), valueEntered: value, unitEntered: "F", valueC: ((value - 32) * 5) / 9, kind: "reading", correctsReadingId: corrects }) as typeof readings.$inferSelect;
+    const reading = (id: string, value: number, corrects: string | null = null, arrivedMin = 0) =>
+      ({ id, takenAt: new Date(t0), receivedAt: new Date(t0 + arrivedMin * min), valueEntered: value, unitEntered: "F", valueC: ((value - 32) * 5) / 9, kind: "reading", correctsReadingId: corrects }) as typeof readings.$inferSelect;
     const site = { temperatureUnit: "F" as const };
     const base = recordKey(site, row, [reading("r0", 150)], undefined);
     expect(recordKey(site, row, [reading("r0", 150)], undefined)).toBe(base);
     const variants = [
       recordKey(site, row, [reading("r0", 150), reading("r1", 120)], undefined),
-      recordKey(site, row, [reading("r0", 150), reading("r1", 149, "r0")], undefined),
+      // Readings are append-only: a record only grows, by a reading or by a correction of one.
+      recordKey(site, row, [reading("r0", 150), reading("r1", 120), reading("r2", 149, "r0", 3)], undefined),
+      // The same count with a later arrival (a set the app could only reach by a delete and an insert).
+      recordKey(site, row, [reading("r0", 150), reading("r1", 120, null, 1)], undefined),
       recordKey(site, row, [reading("r0", 150)], t0 + 5 * min),
       recordKey(site, { ...row, batch: { ...batch, method: "ice-bath" } }, [reading("r0", 150)], undefined),
       recordKey(site, { ...row, learnedLnS: 0.1, learnedSd: 0.2, learnedBatches: 3 }, [reading("r0", 150)], undefined),
