@@ -1,6 +1,7 @@
 // QA's analytics: pass rates by product, method, equipment and shift (counted in PostgreSQL), and the
 // time each batch took to reach its first stage limit (read off its probe readings by the rule
 // evaluation, a page of batches at a time).
+import { groupBy } from "~/lib/group-by";
 import { and, asc, eq, inArray, sql } from "drizzle-orm";
 import { batches, equipment, products, readings, sites } from "~db/schema";
 import { binMinutes, MAX_TIMED, median, shifts, type Group, type Histogram, type ShiftCode } from "~/lib/analytics";
@@ -92,12 +93,7 @@ async function stageOneTimes(site: Site, fromMs: number, toMs: number, now: numb
       })
       .from(readings)
       .where(inArray(readings.batchId, page.map((b) => b.id)));
-    const byBatch = new Map<string, (typeof rows)[number][]>();
-    for (const r of rows) {
-      const list = byBatch.get(r.batchId);
-      if (list) list.push(r);
-      else byBatch.set(r.batchId, [r]);
-    }
+    const byBatch = groupBy(rows, (r) => r.batchId);
     for (const b of page) {
       timed++;
       const rule = getRuleSet(b.ruleSetCode);

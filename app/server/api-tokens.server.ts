@@ -84,7 +84,8 @@ export async function requireApiCaller(request: Request): Promise<ApiCaller> {
     // To the minute: every tablet of a site shares its token, and a write per request would queue them
     // all on one row. A process that wrote it less than a minute ago does not even ask.
     const now = Date.now();
-    if (!(now - (lastUseWritten.get(row.id) ?? -Infinity) < 60_000)) {
+    const written = lastUseWritten.get(row.id);
+    if (written === undefined || now - written >= 60_000) {
       lastUseWritten.set(row.id, now);
       if (lastUseWritten.size > 10_000) lastUseWritten.clear();
       await db

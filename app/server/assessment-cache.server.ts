@@ -54,5 +54,8 @@ export function recordKey(site: Pick<typeof sites.$inferSelect, "temperatureUnit
 export function readingsKey(rows: readonly Pick<typeof readings.$inferSelect, "receivedAt">[]) {
   let last = -Infinity;
   for (const r of rows) if (r.receivedAt.getTime() > last) last = r.receivedAt.getTime();
-  return `${rows.length}@${last}`;
+  return readingsKeyOf(rows.length, last);
 }
+
+/** readingsKey from a count and the latest arrival (ms), as SQL gives them. */
+export const readingsKeyOf = (count: number, lastMs: number) => `${count}@${lastMs}`;

@@ -7,7 +7,8 @@ import { averageProperties, CompositionSchema } from "~/lib/engine/properties";
 import { getRuleSet } from "~/lib/rule-sets";
 import { toCelsius } from "~/lib/temperature";
 import { alertsAfterEntry } from "./alerts.server";
-import { assessWithReuse, readingsKey, recordKey } from "./assessment-cache.server";
+import { groupBy } from "~/lib/group-by";
+import { assessWithReuse, readingsKey, readingsKeyOf, recordKey } from "./assessment-cache.server";
 import { recordAudit, type Actor } from "./audit.server";
 import { db } from "./db.server";
 
@@ -191,7 +192,7 @@ export async function recordReading(site: Site, who: Entrant, batchId: string, i
   // readings count only once the batch is this site's).
   const [[joined], earlier, moves] = await Promise.all([
     batchRowQuery(site, batchId),
-    db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt)),
+    readingsQuery(batchId),
     movesQuery(batchId),
   ]);
   if (!joined) return fail({ batch: "not found" }, 404);
@@ -263,7 +264,7 @@ export async function recordReading(site: Site, who: Entrant, batchId: string, i
   }
   // Settled from the batch as read above and its readings read again now: another entry for the
   // same batch may have landed meanwhile.
-  const after = await db.select().from(readings).where(eq(readings.batchId, batch.id)).orderBy(asc(readings.takenAt));
+  const after = await readingsQuery(batch.id);
   const assessment = await settleState(site, batch.id, now, { row: joined, rows: after, movedAt: latestMove(moves) });
   return { ok: true, value: row, created: true, warnings, assessment };
 }
@@ -344,6 +345,11 @@ function batchRowQuery(site: Pick<Site, "id">, batchId: string) {
     .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
 }
 
+// A batch's readings in taken-at order.
+function readingsQuery(batchId: string) {
+  return db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt));
+}
+
 function movesQuery(batchId: string) {
   return db.select({ takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method")));
 }
@@ -355,7 +361,7 @@ type Known = { row: BatchRow; rows: (typeof readings.$inferSelect)[]; movedAt: n
 
 async function assessRead(site: Site, batchId: string, now: number): Promise<(Known & { assessment: Assessment }) | null> {
   // Three reads at once; the readings and moves count only once the batch is this site's.
-  const [[row], rows, moves] = await Promise.all([batchRowQuery(site, batchId), db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt)), movesQuery(batchId)]);
+  const [[row], rows, moves] = await Promise.all([batchRowQuery(site, batchId), readingsQuery(batchId), movesQuery(batchId)]);
   if (!row) return null;
   const movedAt = latestMove(moves);
   return { row, rows, movedAt, assessment: assessRows(site, row, rows, now, movedAt, true) };
@@ -508,11 +514,6 @@ async function learnFromBatch(tx: Parameters<Parameters<typeof db.transaction>[0
   await recordAudit(tx, { actor: { kind: "system", label: "equipment learning" }, organisationId: site.organisationId, siteId: site.id, action: "equipment.learned", entity: "equipment", entityId: eqp.id, data: { batchId, lnS: x, mean, sd, batches: n } });
 }
 
-/**
- * Active batches of some sites, each with its current assessment (for the API and the live view). An
- * assessment of the same record a few seconds old is reused (see assessment-cache.server.ts) unless
- * `fresh`: the alert sweep asks for fresh ones, and leaves them for the next readers.
- */
 type ReadingRow = typeof readings.$inferSelect;
 // Each active batch's readings as this process last read them, with their readingsKey. Readings are
 // append-only for the app, so a batch whose count and latest arrival are unchanged has the same
@@ -532,19 +533,14 @@ async function readingsOfBatches(batchIds: string[], now: number): Promise<Map<s
   const stale: string[] = [];
   for (const st of stats) {
     const kept = readingsKept.get(st.batchId);
-    if (kept && kept.key === `${st.count}@${st.last.getTime()}`) {
+    if (kept && kept.key === readingsKeyOf(st.count, st.last.getTime())) {
       kept.usedAt = now;
       out.set(st.batchId, kept.rows);
     } else stale.push(st.batchId);
   }
   if (stale.length) {
-    const fresh = new Map<string, ReadingRow[]>();
     // Grouped in one pass, each batch's readings stay in taken-at order.
-    for (const r of await db.select().from(readings).where(inArray(readings.batchId, stale)).orderBy(asc(readings.takenAt))) {
-      const list = fresh.get(r.batchId);
-      if (list) list.push(r);
-      else fresh.set(r.batchId, [r]);
-    }
+    const fresh = groupBy(await db.select().from(readings).where(inArray(readings.batchId, stale)).orderBy(asc(readings.takenAt)), (r) => r.batchId);
     for (const [id, list] of fresh) {
       out.set(id, list);
       readingsKept.set(id, { key: readingsKey(list), rows: list, usedAt: now });
@@ -558,6 +554,11 @@ async function readingsOfBatches(batchIds: string[], now: number): Promise<Map<s
   return out;
 }
 
+/**
+ * Active batches of some sites, each with its current assessment (for the API and the live view). An
+ * assessment of the same record a few seconds old is reused (see assessment-cache.server.ts) unless
+ * `fresh`: the alert sweep asks for fresh ones, and leaves them for the next readers.
+ */
 export async function listActive(siteRows: Site[], now = Date.now(), options: { fresh?: boolean } = {}) {
   if (siteRows.length === 0) return [];
   const ids = siteRows.map((s) => s.id);
@@ -583,8 +584,9 @@ export async function listActive(siteRows: Site[], now = Date.now(), options: { 
   for (const row of rows) {
     const mine = readingsOf.get(row.batch.id) ?? [];
     out.push({ ...row, readings: mine, assessment: assessRows(siteById.get(row.batch.siteId)!, row, mine, now, movedAt.get(row.batch.id), options.fresh ?? false) });
-    // The sweep assesses every active batch afresh (a millisecond or two each): it lets the requests
-    // waiting meanwhile run every 10 ms instead of holding the process for the whole site.
+    // An assessment costs a millisecond or two (the sweep asks for every active batch afresh, the live
+    // view for those whose record changed): requests waiting meanwhile run every 10 ms instead of
+    // after the whole site.
     if (performance.now() - sinceYield > 10) {
       await new Promise((r) => setImmediate(r));
       sinceYield = performance.now();

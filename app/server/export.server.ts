@@ -1,6 +1,7 @@
 // The records export: a period's batches, readings and corrective actions as a workbook or as CSV.
 // Rows are read from PostgreSQL a page of batches at a time (keyset on started-at and id, each page's
 // readings, actions, confirmations and signatures in one query each) and written as they come.
+import { groupBy } from "~/lib/group-by";
 import { PassThrough, Readable, type Writable } from "node:stream";
 import { createReadableStreamFromReadable } from "@react-router/node";
 import { and, asc, count, desc, eq, gte, inArray, lt, sql } from "drizzle-orm";
@@ -91,16 +92,6 @@ async function* batchPages(ctx: Ctx): AsyncGenerator<(BatchRow & { cursorAt: str
     cursor = { at: last.cursorAt, id: last.batch.id };
   }
 }
-
-const groupBy = <T, K>(rows: T[], key: (r: T) => K) => {
-  const m = new Map<K, T[]>();
-  for (const r of rows) {
-    const list = m.get(key(r));
-    if (list) list.push(r);
-    else m.set(key(r), [r]);
-  }
-  return m;
-};
 
 async function pageDetails(ids: string[], what: { readings?: boolean; actions?: boolean; signatures?: boolean }) {
   const [rs, acts, confs, sigs] = await Promise.all([

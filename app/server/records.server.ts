@@ -1,6 +1,7 @@
 // The records view: every batch of one site (or of several, for QA) started in a range of local
 // dates, filtered, sorted and paged in PostgreSQL, with the totals and the first-time pass rate of
 // everything that matches. Each row's stages are evaluated from its readings, as the batch page does.
+import { groupBy } from "~/lib/group-by";
 import { and, asc, desc, eq, gte, inArray, lt, or, sql, type SQL } from "drizzle-orm";
 import { z } from "zod";
 import { batches, correctiveActions, equipment, memberships, products, readings, sites, users, verifications } from "~db/schema";
@@ -124,11 +125,7 @@ export async function getRecordTotals(scope: RecordsScope, q: RecordsQuery): Pro
 }
 
 /** Rows grouped by their batch, in the order given. */
-function byBatch<T extends { batchId: string }>(list: T[]) {
-  const m = new Map<string, T[]>();
-  for (const x of list) (m.get(x.batchId) ?? m.set(x.batchId, []).get(x.batchId)!).push(x);
-  return m;
-}
+const byBatch = <T extends { batchId: string }>(list: T[]) => groupBy(list, (x) => x.batchId);
 
 /** One page of the matching batches, the total, and the page actually shown (clamped to the last). */
 export async function getRecords(scope: RecordsScope, q: RecordsQuery, now = Date.now()) {
