@@ -2,6 +2,7 @@
 // reference/rule-sets.json holds the same data; a unit test keeps the two equal.
 import { z } from "zod";
 import { fromCelsius, toCelsius, type TemperatureUnit } from "~/lib/temperature";
+import { text } from "~/lib/forms";
 
 /**
  * A temperature limit in both units. `published` lists the units the source prints, in its order;
@@ -219,10 +220,10 @@ export const CustomRuleSetSchema = z
       .max(60)
       .refine((code) => !ruleSetCodes.includes(code), { message: "rules.codeTaken" }),
     version: z.number().int().positive(),
-    name: z.string().trim().min(1).max(120),
+    name: text().min(1).max(120),
     /** Who validated the schedule and where it is written down (HACCP plan, variance). */
-    citation: z.string().trim().min(1).max(200),
-    source: z.string().trim().min(1).max(1000),
+    citation: text().min(1).max(200),
+    source: text().min(1).max(1000),
     clockStartsAt: z.enum(["upper-limit", "batch-start"]).default("upper-limit"),
     /** The temperature that starts the clock. */
     upper: LimitInputSchema,

@@ -2,6 +2,7 @@
 import { z } from "zod";
 import { zoneOffsetMs } from "./chart-data";
 import { MAX_RANGE_DAYS } from "./records-export";
+import { text } from "~/lib/forms";
 
 const DAY_MS = 86_400_000;
 export const SHARE_MAX_EXPIRY_DAYS = 90;
@@ -20,7 +21,7 @@ const optional = (v: unknown) => (typeof v === "string" && v.trim() === "" ? und
 export const ShareFormSchema = z
   .object({
     intent: z.literal("create"),
-    label: z.string().trim().min(1, "forms.required").max(120, "share.errors.labelLong"),
+    label: text().min(1, "forms.required").max(120, "share.errors.labelLong"),
     fromDate: localDate,
     toDate: localDate,
     expiry: z.enum(["days", "at"], { error: "share.errors.expiry" }),

@@ -2,14 +2,14 @@ import { useTranslation } from "react-i18next";
 import { data, Form, redirect } from "react-router";
 import { z } from "zod";
 import { Field, Notice, PublicFrame } from "~/components/frame";
-import { fieldErrors } from "~/lib/forms";
+import { fieldErrors, text } from "~/lib/forms";
 import { NewPasswordSchema } from "~/lib/passwords";
 import { acceptInvitation, findInvitation } from "~/server/accounts.server";
 import type { Route } from "./+types/invite";
 
 export const meta: Route.MetaFunction = () => [{ title: "Invitation · Chillwright" }];
 
-const AcceptSchema = NewPasswordSchema.and(z.object({ name: z.string().trim().min(1, "forms.required").max(120) }));
+const AcceptSchema = NewPasswordSchema.and(z.object({ name: text().min(1, "forms.required").max(120) }));
 
 export async function loader({ params }: Route.LoaderArgs) {
   const inv = await findInvitation(params.token);

@@ -3,7 +3,7 @@ import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import { Field, Notice } from "~/components/frame";
 import { RetireList } from "~/components/retire-list";
-import { fieldErrors } from "~/lib/forms";
+import { fieldErrors, text } from "~/lib/forms";
 import { createApiToken, listApiTokens, revokeApiToken } from "~/server/api-tokens.server";
 import { can, isUuid, notFound, requireRole } from "~/server/guards.server";
 import type { Route } from "./+types/site-api-tokens";
@@ -11,7 +11,7 @@ import type { Route } from "./+types/site-api-tokens";
 export const meta: Route.MetaFunction = () => [{ title: "API tokens · Chillwright" }];
 
 const TokenSchema = z.discriminatedUnion("intent", [
-  z.object({ intent: z.literal("create"), name: z.string().trim().min(1, "forms.required").max(80) }),
+  z.object({ intent: z.literal("create"), name: text().min(1, "forms.required").max(80) }),
   z.object({ intent: z.literal("revoke"), tokenId: z.string().refine(isUuid) }),
 ]);
 

@@ -7,7 +7,7 @@ import { Field, Notice } from "~/components/frame";
 import { coolingMethodIds, coolingMethods, PanFillSchema, panSizes, type PanSize } from "~/lib/engine/equipment";
 import { learnedFactor } from "~/lib/equipment-learning";
 import { averageProperties, CompositionSchema, components, type Component } from "~/lib/engine/properties";
-import { fieldErrors } from "~/lib/forms";
+import { fieldErrors, text } from "~/lib/forms";
 import { can, isUuid, notFound, requireRole } from "~/server/guards.server";
 import {
   addEquipment,
@@ -54,7 +54,7 @@ const CompositionFormSchema = z.object(compositionShape);
 type CompositionForm = z.output<typeof CompositionFormSchema>;
 
 const productShape = {
-  name: z.string().trim().min(1, "forms.required").max(120, "library.errors.tooLong"),
+  name: text().min(1, "forms.required").max(120, "library.errors.tooLong"),
   ...compositionShape,
   defaultPanSize: z.string(),
   defaultPanDepthMm: z.preprocess(decimal, z.number({ error: "library.errors.panDepth" })),
@@ -85,7 +85,7 @@ function checkProduct(p: z.output<z.ZodObject<typeof productShape>>, ctx: z.Refi
 
 const productId = z.string().refine(isUuid);
 const equipmentId = z.string().refine(isUuid);
-const equipmentName = z.string().trim().min(1, "forms.required").max(80, "library.errors.tooLong");
+const equipmentName = text().min(1, "forms.required").max(80, "library.errors.tooLong");
 
 const LibraryActionSchema = z.discriminatedUnion("intent", [
   z.object({ intent: z.literal("addProduct"), ...productShape }).superRefine(checkProduct),

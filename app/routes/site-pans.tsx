@@ -6,7 +6,7 @@ import { panTypes } from "~db/schema";
 import { SelectField } from "~/components/controls";
 import { Field, Notice } from "~/components/frame";
 import { panMaterialIds } from "~/lib/engine/equipment";
-import { fieldErrors } from "~/lib/forms";
+import { fieldErrors, text } from "~/lib/forms";
 import { recordAudit } from "~/server/audit.server";
 import { db } from "~/server/db.server";
 import { can, isUuid, notFound, requireRole } from "~/server/guards.server";
@@ -20,7 +20,7 @@ const limits = { lengthMm: [50, 1200], widthMm: [50, 1200], depthMm: [10, 400] }
 const PanActionSchema = z.discriminatedUnion("intent", [
   z.object({
     intent: z.literal("add"),
-    name: z.string().trim().min(1, "forms.required").max(80),
+    name: text().min(1, "forms.required").max(80),
     lengthMm: mm(...limits.lengthMm),
     widthMm: mm(...limits.widthMm),
     depthMm: mm(...limits.depthMm),

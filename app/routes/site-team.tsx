@@ -3,7 +3,7 @@ import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import { SelectField } from "~/components/controls";
 import { Field, Notice } from "~/components/frame";
-import { fieldErrors } from "~/lib/forms";
+import { fieldErrors, text } from "~/lib/forms";
 import { PinSchema } from "~/lib/passwords";
 import { inviteToSite } from "~/server/accounts.server";
 import { can, isUuid, notFound, requireRole, type Role } from "~/server/guards.server";
@@ -19,7 +19,7 @@ const TeamActionSchema = z.discriminatedUnion("intent", [
   z.object({
     intent: z.literal("invite"),
     email: z.email("forms.email").max(200),
-    name: z.string().trim().min(1, "forms.required").max(120),
+    name: text().min(1, "forms.required").max(120),
     role: z.enum(roles),
   }),
   z.object({ intent: z.literal("changeRole"), userId, role: z.enum(roles) }),

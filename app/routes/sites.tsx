@@ -5,7 +5,7 @@ import { z } from "zod";
 import { memberships, sites } from "~db/schema";
 import { SelectField } from "~/components/controls";
 import { Field, Notice } from "~/components/frame";
-import { fieldErrors } from "~/lib/forms";
+import { fieldErrors, text } from "~/lib/forms";
 import { ruleSetCodes, ruleSets } from "~/lib/rule-sets";
 import { recordAudit } from "~/server/audit.server";
 import { db } from "~/server/db.server";
@@ -16,7 +16,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Sites · Chillwright" }
 
 const timeZones = new Set(Intl.supportedValuesOf("timeZone"));
 const NewSiteSchema = z.object({
-  name: z.string().trim().min(1, "forms.required").max(120),
+  name: text().min(1, "forms.required").max(120),
   temperatureUnit: z.enum(["F", "C"]),
   timeZone: z.string().refine((tz) => timeZones.has(tz), "settings.badTimeZone"),
   ruleSetCode: z.enum(ruleSetCodes),

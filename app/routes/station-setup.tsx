@@ -5,7 +5,7 @@ import { z } from "zod";
 import { stationDevices } from "~db/schema";
 import { Field } from "~/components/frame";
 import { RetireList } from "~/components/retire-list";
-import { fieldErrors } from "~/lib/forms";
+import { fieldErrors, text } from "~/lib/forms";
 import { recordAudit } from "~/server/audit.server";
 import { clearSessionCookie } from "~/server/auth.server";
 import { hashToken, makeToken } from "~/server/crypto.server";
@@ -17,7 +17,7 @@ import type { Route } from "./+types/station-setup";
 export const meta: Route.MetaFunction = () => [{ title: "Set up station · Chillwright" }];
 
 const StationSchema = z.discriminatedUnion("intent", [
-  z.object({ intent: z.literal("create"), name: z.string().trim().min(1, "forms.required").max(80) }),
+  z.object({ intent: z.literal("create"), name: text().min(1, "forms.required").max(80) }),
   z.object({ intent: z.literal("retire"), deviceId: z.string().refine(isUuid) }),
 ]);
 

@@ -11,6 +11,7 @@ import { groupBy } from "~/lib/group-by";
 import { assessWithReuse, readingsKey, readingsKeyOf, recordKey } from "./assessment-cache.server";
 import { recordAudit, type Actor } from "./audit.server";
 import { db } from "./db.server";
+import { text } from "~/lib/forms";
 
 /** An entry made more than this long after it was taken is marked late in every view and export. */
 export const LATE_AFTER_MS = 15 * 60_000;
@@ -33,10 +34,13 @@ export function temperatureProblem(value: number, u: "F" | "C") {
   return null;
 }
 
+/** Free text the API takes; its refusal speaks English, as the API's other messages do. */
+const typed = () => text("must not hold control characters (such as NUL)");
+
 export const StartBatchSchema = z.object({
   clientId,
   productId: uuid,
-  lotCode: z.string().trim().min(1, "Enter the lot or batch code").max(60),
+  lotCode: typed().min(1, "Enter the lot or batch code").max(60),
   quantityKg: z.number().positive("quantity must be more than 0 kg").max(5000).optional(),
   pan: z
     .object({
@@ -63,10 +67,10 @@ export const ReadingSchema = z.object({
   value: z.number({ error: "Enter a temperature" }),
   unit,
   takenAt: isoTime.optional(),
-  probe: z.string().trim().max(60).optional(),
+  probe: typed().max(60).optional(),
   kind: z.enum(["reading", "reheat"]).default("reading"),
   photoId: uuid.optional(),
-  corrects: z.object({ readingId: uuid, reason: z.string().trim().min(3, "Say why this corrects the reading").max(300) }).optional(),
+  corrects: z.object({ readingId: uuid, reason: typed().min(3, "Say why this corrects the reading").max(300) }).optional(),
 });
 
 export const CorrectiveActionSchema = z.discriminatedUnion("kind", [
@@ -81,7 +85,7 @@ export const CorrectiveActionSchema = z.discriminatedUnion("kind", [
     kind: z.literal("discard"),
     clientId,
     quantityKg: z.number().positive("quantity must be more than 0 kg").max(5000).optional(),
-    reason: z.string().trim().min(3, "Say why the batch is discarded").max(300),
+    reason: typed().min(3, "Say why the batch is discarded").max(300),
   }),
 ]);
 export type CorrectiveActionInput = z.infer<typeof CorrectiveActionSchema>;

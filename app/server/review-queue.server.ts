@@ -3,6 +3,7 @@ import { z } from "zod";
 import { actionConfirmations, batches, correctiveActions, products, readings, sites, verifications } from "~db/schema";
 import { defaultQueueQuery, firstDir, pageSizes, reviewReasons, sortKeys, type QueueQuery, type ReasonCode } from "~/lib/review-reasons";
 import { db } from "./db.server";
+import { text } from "~/lib/forms";
 
 /**
  * Each reason a batch needs a manager, as SQL over `batches` (joined to `sites` for the grace period).
@@ -39,7 +40,7 @@ const QueueParamSchemas = {
   sort: z.enum(sortKeys),
   dir: z.enum(["asc", "desc"]),
   reason: z.enum(reviewReasons.map((r) => r.code) as [ReasonCode, ...ReasonCode[]]),
-  q: z.string().trim().max(80),
+  q: text().max(80),
   page: z.coerce.number().int().min(1).max(100_000),
   size: z.coerce.number().pipe(z.union(pageSizes.map((s) => z.literal(s)) as [z.ZodLiteral<10>, z.ZodLiteral<25>, z.ZodLiteral<50>])),
 };

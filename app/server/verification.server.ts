@@ -6,6 +6,7 @@ import { getI18n, languages, type Language } from "~/lib/i18n";
 import { recordAudit } from "./audit.server";
 import { db, type Tx } from "./db.server";
 import { can, type Role } from "./guards.server";
+import { text } from "~/lib/forms";
 
 /**
  * The words a signature stands for live in the locales as `verify.statementV<n>`. Changing them means
@@ -49,7 +50,7 @@ export const awaitingVerification = sql`(${batches.state} <> 'cooling' AND NOT E
     AND v.readings_covered = (SELECT count(*) FROM ${readings} r WHERE r.batch_id = ${batches.id})
     AND v.actions_covered = (SELECT count(*) FROM ${correctiveActions} c WHERE c.batch_id = ${batches.id})))`;
 
-const note = (key: string) => z.string().trim().max(1000, key).optional().transform((s) => s || null);
+const note = (key: string) => text(key).max(1000, key).optional().transform((s) => s || null);
 
 export const SignSchema = z.object({
   intent: z.literal("sign"),

@@ -145,6 +145,31 @@ describe("hostile input", () => {
       ["/api/v1/predict", { shape: "slab", depthMm: 50, faces: { top: { h: 10 }, bottom: { h: 10 } }, food: { k: 0.5, rho: 1050, cp: 3600 }, initialC: 60, ambientC: 3, timesS: [0, 600], targetsC: [21, 5] }],
     ] as const;
 
+  it("every text field of every API route refuses a NUL or a control character with a 400 naming the field", async () => {
+    let checked = 0;
+    for (const [path, base] of jsonRoutes()) {
+      // Each string in the valid body, at any depth, in turn.
+      const leaves: string[][] = [];
+      const walk = (v: unknown, at: string[]) => {
+        if (typeof v === "string") leaves.push(at);
+        else if (v && typeof v === "object") for (const [k, w] of Object.entries(v)) walk(w, [...at, k]);
+      };
+      walk(base, []);
+      for (const at of leaves) {
+        const body = structuredClone(base) as Record<string, unknown>;
+        const parent = at.slice(0, -1).reduce<Record<string, unknown>>((o, k) => o[k] as Record<string, unknown>, body);
+        parent[at.at(-1)!] = "P-2\u0000";
+        const before = await snapshot(t);
+        const res = await api(path, JSON.stringify(body));
+        await judge(t, `POST ${path} ${at.join(".")}=NUL`, before, res);
+        expect(res.status, `${path} ${at.join(".")}`).toBe(400);
+        checked++;
+      }
+    }
+    // clientId, productId, lotCode, pan.size, method, start.unit; clientId, unit, takenAt, probe; kind, clientId, method; shape.
+    expect(checked).toBe(14);
+  });
+
   for (const index of [0, 1, 2, 3]) {
     it(`API route ${index + 1} of 4 refuses hostile bodies with a 4xx and writes nothing`, async () => {
       const [path, base] = jsonRoutes()[index];
@@ -235,6 +260,17 @@ async function fuzzPageForms(t: Tenant, client: Client, pagePath: string, skip: 
   for (const form of forms) {
     const names = [...new Set(form.fields.map(([k]) => k))];
     const intent = form.fields.find(([k]) => k === "intent")?.[1];
+    // Every field once with the characters PostgreSQL text cannot hold (NUL) or no keyboard types:
+    // the random runs below meet them only now and then.
+    for (const name of names.filter((n) => n !== "intent")) {
+      for (const bad of ["Lot\u0000 7", "\u0007"]) {
+        const body: Record<string, string> = Object.fromEntries(form.fields);
+        body[name] = bad;
+        const before = await snapshot(t);
+        const res = await sendOnce(() => client.request(form.action, { form: body }));
+        await judge(t, `POST ${form.action} intent=${intent ?? "-"} ${name}=${JSON.stringify(bad)}`, before, res);
+      }
+    }
     await fc.assert(
       fc.asyncProperty(
         fc.subarray(names.filter((n) => n !== "intent"), { minLength: names.some((n) => n !== "intent") ? 1 : 0 }),
@@ -291,6 +327,30 @@ describe("hostile input in forms", () => {
       await fuzzPageForms(t, client, path(t, batch.id));
     });
   }
+});
+
+describe("hostile search parameters and paths", () => {
+  it("every page a manager opens answers a NUL in any search parameter or path segment without a 5xx", async () => {
+    const t = await newTenant();
+    const batch = await coolingBatch(t, { lotCode: "NUL-1", startedMinutesAgo: 12 });
+    const manager = await signedIn(t.people.manager.email, t.people.manager.password);
+    const site = `/sites/${t.site.id}`;
+    // Every parameter name a loader reads, each set to a NUL.
+    const query = ["q", "from", "to", "product", "method", "equipment", "outcome", "cook", "late", "unverified", "sort", "dir", "page", "size", "reason", "show", "edit", "id", "done", "warn", "alert", "next", "sheet", "site", "status"]
+      .map((k) => `${k}=%00`)
+      .join("&");
+    const pages = ["/", "/account", "/sites", "/records", site, ...["settings", "team", "library", "pans", "station-setup", "api-tokens", "review", "records", "records/print", "analytics", `batches/${batch.id}`, "alerts", "export.csv", "export.xlsx", "sharing"].map((p) => `${site}/${p}`)];
+    const paths = ["/invite/%00", "/reset-password/%00", "/shared/%00", "/shared/%00/export.csv", "/photos/%00", `${site}/batches/%00`, `${site}/equipment/%00`, "/sites/%00/review"];
+    for (const path of [...pages.map((p) => `${p}?${query}`), ...paths]) {
+      const res = await manager.get(path);
+      const body = await res.text();
+      expect(res.status, `GET ${path} → ${res.status}: ${body.slice(0, 200)}`).toBeLessThan(500);
+    }
+    // The review queue's search keeps working and says the unusable text was set aside.
+    const review = await manager.get(`${site}/review?q=Lot%00`);
+    expect(review.status).toBe(200);
+    expect(await review.text()).toContain("could not be used and was left out");
+  });
 });
 
 describe("hostile input from a station tablet", () => {

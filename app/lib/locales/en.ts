@@ -455,6 +455,7 @@ export const en = {
     email: "Enter an e-mail address.",
     number: "Enter a whole number between {{min}} and {{max}}.",
     fixErrors: "Some fields need a look.",
+    controlCharacters: "Remove the invisible control characters from this text.",
   },
 };
 

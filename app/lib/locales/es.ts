@@ -457,5 +457,6 @@ export const es: Messages = {
     email: "Escribe una dirección de correo electrónico.",
     number: "Escribe un número entero entre {{min}} y {{max}}.",
     fixErrors: "Revisa algunos campos.",
+    controlCharacters: "Quita de este texto los caracteres de control invisibles.",
   },
 };
