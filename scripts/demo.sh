@@ -35,7 +35,7 @@ if [ ! -f build/server/index.js ] || [ -n "$(find app db -newer build/server/ind
   node_modules/.bin/react-router build >"$DATA/build.log" 2>&1 || { cat "$DATA/build.log"; die "build failed"; }
 fi
 
-DATABASE_URL="$(runtime_url chillwright)" HOST=127.0.0.1 PORT="$APP_PORT" node_modules/.bin/react-router-serve ./build/server/index.js >"$DATA/app.log" 2>&1 &
+DATABASE_URL="$(runtime_url chillwright)" HOST=127.0.0.1 PORT="$APP_PORT" node scripts/serve.mjs ./build/server/index.js >"$DATA/app.log" 2>&1 &
 STARTED_PIDS+=($!)
 wait_for_url "$APP_URL/healthz" 30 || { tail -n 40 "$DATA/app.log"; die "the app did not start; see .data/app.log"; }
 

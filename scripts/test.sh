@@ -61,11 +61,13 @@ else
   if [ -f "$DATA/maildev-$SMTP_PORT.pid" ]; then kill "$(cat "$DATA/maildev-$SMTP_PORT.pid")" 2>/dev/null || true; fi
   start_maildev "$SMTP_PORT" "$MAIL_WEB_PORT"
   port_free "$APP_PORT" || die "Port $APP_PORT is taken (set CHILLWRIGHT_TEST_PORT)."
-  DATABASE_URL="$RUNTIME_DATABASE_URL" HOST=127.0.0.1 PORT="$APP_PORT" node_modules/.bin/react-router-serve ./build/server/index.js >"$RESULTS/app.log" 2>&1 &
+  # The app as it runs in production: scripts/serve.mjs, one app process per core behind one port.
+  DATABASE_URL="$RUNTIME_DATABASE_URL" HOST=127.0.0.1 PORT="$APP_PORT" node scripts/serve.mjs ./build/server/index.js >"$RESULTS/app.log" 2>&1 &
   STARTED_PIDS+=($!)
-  # A second app process: two alert workers share the queue, as in a deployment with two servers.
+  # A second server, a single app process: more alert workers share the queue, as in a deployment
+  # with two servers.
   port_free "$((APP_PORT + 1))" || die "Port $((APP_PORT + 1)) is taken (set CHILLWRIGHT_TEST_PORT)."
-  DATABASE_URL="$RUNTIME_DATABASE_URL" HOST=127.0.0.1 PORT="$((APP_PORT + 1))" node_modules/.bin/react-router-serve ./build/server/index.js >"$RESULTS/app-2.log" 2>&1 &
+  DATABASE_URL="$RUNTIME_DATABASE_URL" HOST=127.0.0.1 PORT="$((APP_PORT + 1))" WEB_CONCURRENCY=1 node scripts/serve.mjs ./build/server/index.js >"$RESULTS/app-2.log" 2>&1 &
   STARTED_PIDS+=($!)
   wait_for_url "$APP_URL/healthz" 30 || { tail -n 40 "$RESULTS/app.log"; die "the app did not start"; }
   wait_for_url "$SECOND_APP_URL/healthz" 30 || { tail -n 40 "$RESULTS/app-2.log"; die "the second app process did not start"; }

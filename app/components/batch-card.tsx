@@ -1,5 +1,5 @@
 import type { TFunction } from "i18next";
-import { useMemo } from "react";
+import { useMemo, useSyncExternalStore } from "react";
 import { useTranslation } from "react-i18next";
 import { useNavigate } from "react-router";
 import type { CardData } from "~/server/station-entry.server";
@@ -26,10 +26,18 @@ export function clock(ms: number, timeZone: string, lang: string) {
   return f.format(ms);
 }
 
+/** Cards the server renders into the page; the browser renders the rest once the page is live. */
+export const FIRST_CARDS = 24;
+const never = () => () => {};
+/** False on the server and while the page hydrates, true in the browser from then on. */
+const useHydrated = () => useSyncExternalStore(never, () => true, () => false);
+
 /**
  * The live view's cards: one translation hook for the list, and plain links whose taps the list
  * turns into client-side navigations (a site may have 200 batches cooling; a router link per card
- * costs its hooks 200 times on every render).
+ * costs its hooks 200 times on every render). The page arrives with the first FIRST_CARDS (two
+ * screens of a tablet) and every card's data; the others follow as soon as it hydrates, so a busy
+ * site's page is a fraction of the HTML to render, compress and send.
  */
 export function BatchCards({ cards, now, timeZone, hrefOf, pendingOf }: { cards: CardData[]; now: number; timeZone: string; hrefOf: (id: string) => string; pendingOf: (id: string) => number }) {
   const { t, i18n } = useTranslation();
@@ -43,9 +51,10 @@ export function BatchCards({ cards, now, timeZone, hrefOf, pendingOf }: { cards:
   };
   // The words every card shares, translated once for the list.
   const labels = useMemo(() => cardLabels(t), [t, i18n.language]);
+  const shown = useHydrated() ? cards : cards.slice(0, FIRST_CARDS);
   return (
-    <ul className="grid gap-4 md:grid-cols-2" onClick={onClick}>
-      {cards.map((c) => (
+    <ul className="grid gap-4 md:grid-cols-2" onClick={onClick} data-cards={cards.length} data-shown={shown.length}>
+      {shown.map((c) => (
         <BatchCard key={c.id} card={c} now={now} timeZone={timeZone} to={hrefOf(c.id)} pending={pendingOf(c.id)} t={t} labels={labels} lang={i18n.language} />
       ))}
     </ul>

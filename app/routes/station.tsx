@@ -38,10 +38,9 @@ const StationActionSchema = z.discriminatedUnion("intent", [
 export async function loader({ request }: Route.LoaderArgs) {
   const device = await getStationDevice(request);
   if (!device) return { station: null, people: [], cook: null, cards: [], now: Date.now(), timeZone: "UTC", next: null };
-  const people = await listStationPeople(device.siteId);
+  const [people, [site]] = await Promise.all([listStationPeople(device.siteId), db.select().from(sites).where(eq(sites.id, device.siteId))]);
   const cookId = getStationCookId(request, device);
   const cook = people.find((p) => p.id === cookId) ?? null;
-  const [site] = await db.select().from(sites).where(eq(sites.id, device.siteId));
   const now = Date.now();
   const active = await listActive([site], now);
   const next = new URL(request.url).searchParams.get("next");

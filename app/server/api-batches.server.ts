@@ -1,4 +1,4 @@
-import { and, eq, inArray } from "drizzle-orm";
+import { and, eq, inArray, sql } from "drizzle-orm";
 import { data } from "react-router";
 import type { z } from "zod";
 import { batches, sites } from "~db/schema";
@@ -53,13 +53,17 @@ export async function siteForStart(caller: ApiCaller, siteId: unknown) {
 }
 
 /** The site of a batch the caller may see; 404 for anything else. */
+// Asked on every entry through the API: built once, prepared once per connection.
+const siteOfBatchStatement = db
+  .select({ site: sites })
+  .from(batches)
+  .innerJoin(sites, eq(sites.id, batches.siteId))
+  .where(and(eq(batches.id, sql.placeholder("batchId")), sql`${batches.siteId} = any(${sql.placeholder("siteIds")}::uuid[])`))
+  .prepare("cw_site_of_batch");
+
 export async function siteOfBatch(caller: ApiCaller, batchId: string, forEntry: boolean) {
   const visible = forEntry ? entrySiteIds(caller) : caller.siteIds;
-  const [row] = await db
-    .select({ site: sites })
-    .from(batches)
-    .innerJoin(sites, eq(sites.id, batches.siteId))
-    .where(and(eq(batches.id, batchId), inArray(batches.siteId, visible.length ? visible : ["00000000-0000-0000-0000-000000000000"])));
+  const [row] = await siteOfBatchStatement.execute({ batchId, siteIds: visible });
   if (!row) {
     if (forEntry && caller.siteIds.length) {
       const [seen] = await db.select({ id: batches.id }).from(batches).where(and(eq(batches.id, batchId), inArray(batches.siteId, caller.siteIds)));

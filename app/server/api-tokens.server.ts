@@ -67,6 +67,14 @@ const jsonError = (status: number, message: string) => data({ error: message }, 
  * Who is calling an API route: a signed-in user (session cookie) or a site API token
  * (`Authorization: Bearer cw_…`). Anyone else gets a JSON 401.
  */
+// Asked on every API request: built once, prepared once per connection.
+const tokenStatement = db
+  .select({ id: siteApiTokens.id, siteId: siteApiTokens.siteId, organisationId: sites.organisationId })
+  .from(siteApiTokens)
+  .innerJoin(sites, eq(sites.id, siteApiTokens.siteId))
+  .where(and(eq(siteApiTokens.tokenHash, sql.placeholder("hash")), isNull(siteApiTokens.revokedAt)))
+  .prepare("cw_api_token");
+
 // When this process last wrote each token's last use (ms).
 const lastUseWritten = new Map<string, number>();
 
@@ -75,11 +83,7 @@ export async function requireApiCaller(request: Request): Promise<ApiCaller> {
   if (auth) {
     const token = /^Bearer\s+(cw_[A-Za-z0-9_-]+)$/.exec(auth)?.[1];
     if (!token) throw jsonError(401, "The Authorization header must be 'Bearer cw_…' with a site API token.");
-    const [row] = await db
-      .select({ id: siteApiTokens.id, siteId: siteApiTokens.siteId, organisationId: sites.organisationId })
-      .from(siteApiTokens)
-      .innerJoin(sites, eq(sites.id, siteApiTokens.siteId))
-      .where(and(eq(siteApiTokens.tokenHash, hashToken(token)), isNull(siteApiTokens.revokedAt)));
+    const [row] = await tokenStatement.execute({ hash: hashToken(token) });
     if (!row) throw jsonError(401, "This API token is not valid (unknown or revoked).");
     // To the minute: every tablet of a site shares its token, and a write per request would queue them
     // all on one row. A process that wrote it less than a minute ago does not even ask.

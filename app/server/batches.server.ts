@@ -1,4 +1,5 @@
 import { and, asc, eq, inArray, ne, sql } from "drizzle-orm";
+import type { PgColumn } from "drizzle-orm/pg-core";
 import { z } from "zod";
 import { auditEvents, batches, correctiveActions, equipment, panTypes, photos, products, readings, sites } from "~db/schema";
 import { assessBatch, evaluateRecord, type AssessInput, type Assessment } from "~/lib/engine/assess";
@@ -340,22 +341,34 @@ export async function assess(site: Site, batchId: string, now = Date.now()): Pro
 }
 
 // A batch of this site with what its assessment reads besides the readings: product and equipment.
-function batchRowQuery(site: Pick<Site, "id">, batchId: string) {
-  return db
-    .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
-    .from(batches)
-    .innerJoin(products, eq(products.id, batches.productId))
-    .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
-    .where(and(eq(batches.id, batchId), eq(batches.siteId, site.id)));
+// The queries every entry and every live view makes, built once and prepared by PostgreSQL once per
+// connection (named statements): building a query is a good part of an entry's own work.
+const param = sql.placeholder;
+const batchRowStatement = db
+  .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
+  .from(batches)
+  .innerJoin(products, eq(products.id, batches.productId))
+  .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
+  .where(and(eq(batches.id, param("batchId")), eq(batches.siteId, param("siteId"))))
+  .prepare("cw_batch_row");
+const readingsStatement = db.select().from(readings).where(eq(readings.batchId, param("batchId"))).orderBy(asc(readings.takenAt)).prepare("cw_batch_readings");
+const movesStatement = db
+  .select({ takenAt: correctiveActions.takenAt })
+  .from(correctiveActions)
+  .where(and(eq(correctiveActions.batchId, param("batchId")), eq(correctiveActions.kind, "change_method")))
+  .prepare("cw_batch_moves");
+
+function batchRowQuery(site: Pick<Site, "id">, batchId: string): Promise<BatchRow[]> {
+  return batchRowStatement.execute({ batchId, siteId: site.id });
 }
 
 // A batch's readings in taken-at order.
 function readingsQuery(batchId: string) {
-  return db.select().from(readings).where(eq(readings.batchId, batchId)).orderBy(asc(readings.takenAt));
+  return readingsStatement.execute({ batchId });
 }
 
 function movesQuery(batchId: string) {
-  return db.select({ takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(eq(correctiveActions.batchId, batchId), eq(correctiveActions.kind, "change_method")));
+  return movesStatement.execute({ batchId });
 }
 
 const latestMove = (moves: { takenAt: Date }[]) => (moves.length ? Math.max(...moves.map((m) => m.takenAt.getTime())) : undefined);
@@ -384,7 +397,7 @@ export type BatchRow = {
  * reused while the batch's record is unchanged unless `fresh` (see assessment-cache.server.ts).
  */
 export function assessRows(site: Site, row: BatchRow, rows: (typeof readings.$inferSelect)[], now: number, movedAt?: number, fresh = false) {
-  return assessWithReuse(row.batch.id, recordKey(site, row, rows, movedAt), now, fresh, () => assessBatch(assessInput(site, row, rows, now, movedAt)));
+  return assessWithReuse(row.batch.id, recordKey(site, row, rows, movedAt), now, fresh, (at) => assessBatch(assessInput(site, row, rows, at, movedAt)));
 }
 
 /**
@@ -518,6 +531,29 @@ async function learnFromBatch(tx: Parameters<Parameters<typeof db.transaction>[0
   await recordAudit(tx, { actor: { kind: "system", label: "equipment learning" }, organisationId: site.organisationId, siteId: site.id, action: "equipment.learned", entity: "equipment", entityId: eqp.id, data: { batchId, lnS: x, mean, sd, batches: n } });
 }
 
+// The live view's queries, prepared as the entry's are (above); `ids` is an array of uuids.
+const inIds = (column: PgColumn) => sql`${column} = any(${param("ids")}::uuid[])`;
+const readingStatsStatement = db
+  .select({ batchId: readings.batchId, count: sql<number>`count(*)::int`, last: sql<Date>`max(${readings.receivedAt})`.mapWith(readings.receivedAt) })
+  .from(readings)
+  .where(inIds(readings.batchId))
+  .groupBy(readings.batchId)
+  .prepare("cw_readings_stats");
+const readingsOfStatement = db.select().from(readings).where(inIds(readings.batchId)).orderBy(asc(readings.takenAt)).prepare("cw_readings_of");
+const activeStatement = db
+  .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
+  .from(batches)
+  .innerJoin(products, eq(products.id, batches.productId))
+  .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
+  .where(and(inIds(batches.siteId), eq(batches.state, "cooling")))
+  .orderBy(asc(batches.startedAt))
+  .prepare("cw_active_batches");
+const movesOfStatement = db
+  .select({ batchId: correctiveActions.batchId, takenAt: correctiveActions.takenAt })
+  .from(correctiveActions)
+  .where(and(inIds(correctiveActions.batchId), eq(correctiveActions.kind, "change_method")))
+  .prepare("cw_moves_of");
+
 type ReadingRow = typeof readings.$inferSelect;
 // Each active batch's readings as this process last read them, with their readingsKey. Readings are
 // append-only for the app, so a batch whose count and latest arrival are unchanged has the same
@@ -528,11 +564,7 @@ let readingsPrunedAt = 0;
 
 /** The readings of these batches (taken-at order), read again only for those with new ones. */
 async function readingsOfBatches(batchIds: string[], now: number): Promise<Map<string, ReadingRow[]>> {
-  const stats = await db
-    .select({ batchId: readings.batchId, count: sql<number>`count(*)::int`, last: sql<Date>`max(${readings.receivedAt})`.mapWith(readings.receivedAt) })
-    .from(readings)
-    .where(inArray(readings.batchId, batchIds))
-    .groupBy(readings.batchId);
+  const stats = await readingStatsStatement.execute({ ids: batchIds });
   const out = new Map<string, ReadingRow[]>();
   const stale: string[] = [];
   for (const st of stats) {
@@ -544,7 +576,7 @@ async function readingsOfBatches(batchIds: string[], now: number): Promise<Map<s
   }
   if (stale.length) {
     // Grouped in one pass, each batch's readings stay in taken-at order.
-    const fresh = groupBy(await db.select().from(readings).where(inArray(readings.batchId, stale)).orderBy(asc(readings.takenAt)), (r) => r.batchId);
+    const fresh = groupBy(await readingsOfStatement.execute({ ids: stale }), (r) => r.batchId);
     for (const [id, list] of fresh) {
       out.set(id, list);
       readingsKept.set(id, { key: readingsKey(list), rows: list, usedAt: now });
@@ -566,18 +598,12 @@ async function readingsOfBatches(batchIds: string[], now: number): Promise<Map<s
 export async function listActive(siteRows: Site[], now = Date.now(), options: { fresh?: boolean } = {}) {
   if (siteRows.length === 0) return [];
   const ids = siteRows.map((s) => s.id);
-  const rows = await db
-    .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
-    .from(batches)
-    .innerJoin(products, eq(products.id, batches.productId))
-    .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
-    .where(and(inArray(batches.siteId, ids), eq(batches.state, "cooling")))
-    .orderBy(asc(batches.startedAt));
+  const rows: BatchRow[] = await activeStatement.execute({ ids });
   const ids2 = rows.map((r) => r.batch.id);
   const [readingsOf, moves] = rows.length
     ? await Promise.all([
         readingsOfBatches(ids2, now),
-        db.select({ batchId: correctiveActions.batchId, takenAt: correctiveActions.takenAt }).from(correctiveActions).where(and(inArray(correctiveActions.batchId, ids2), eq(correctiveActions.kind, "change_method"))),
+        movesOfStatement.execute({ ids: ids2 }),
       ])
     : [new Map<string, (typeof readings.$inferSelect)[]>(), []];
   const siteById = new Map(siteRows.map((s) => [s.id, s]));

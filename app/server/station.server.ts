@@ -41,35 +41,41 @@ export type StationDevice = {
   timeZone: string;
 };
 
+// Asked by every station page and entry: built once, prepared once per connection.
+const deviceStatement = db
+  .select({
+    id: stationDevices.id,
+    name: stationDevices.name,
+    siteId: stationDevices.siteId,
+    siteName: sites.name,
+    organisationId: sites.organisationId,
+    temperatureUnit: sites.temperatureUnit,
+    timeZone: sites.timeZone,
+  })
+  .from(stationDevices)
+  .innerJoin(sites, eq(sites.id, stationDevices.siteId))
+  .where(and(eq(stationDevices.tokenHash, sql.placeholder("hash")), isNull(stationDevices.revokedAt)))
+  .prepare("cw_station_device");
+const peopleStatement = db
+  .select({ id: users.id, name: users.name, role: memberships.role, locked: sql<boolean>`${users.pinLockedAt} is not null`, hasPin: sql<boolean>`${users.pinHash} is not null` })
+  .from(memberships)
+  .innerJoin(users, eq(users.id, memberships.userId))
+  // QA reads the records but does not make entries.
+  .where(and(eq(memberships.siteId, sql.placeholder("siteId")), eq(users.active, true), inArray(memberships.role, ["cook", "manager", "admin"])))
+  .orderBy(users.name)
+  .prepare("cw_station_people");
+
 /** The station device this browser was set up as, unless it was revoked. */
 export async function getStationDevice(request: Request): Promise<StationDevice | null> {
   const token = readCookie(request, STATION_COOKIE);
   if (!token) return null;
-  const [device] = await db
-    .select({
-      id: stationDevices.id,
-      name: stationDevices.name,
-      siteId: stationDevices.siteId,
-      siteName: sites.name,
-      organisationId: sites.organisationId,
-      temperatureUnit: sites.temperatureUnit,
-      timeZone: sites.timeZone,
-    })
-    .from(stationDevices)
-    .innerJoin(sites, eq(sites.id, stationDevices.siteId))
-    .where(and(eq(stationDevices.tokenHash, hashToken(token)), isNull(stationDevices.revokedAt)));
+  const [device] = await deviceStatement.execute({ hash: hashToken(token) });
   return device ?? null;
 }
 
 /** The people who may make entries on this station: active members of its site. */
 export function listStationPeople(siteId: string) {
-  return db
-    .select({ id: users.id, name: users.name, role: memberships.role, locked: sql<boolean>`${users.pinLockedAt} is not null`, hasPin: sql<boolean>`${users.pinHash} is not null` })
-    .from(memberships)
-    .innerJoin(users, eq(users.id, memberships.userId))
-    // QA reads the records but does not make entries.
-    .where(and(eq(memberships.siteId, siteId), eq(users.active, true), inArray(memberships.role, ["cook", "manager", "admin"])))
-    .orderBy(users.name);
+  return peopleStatement.execute({ siteId });
 }
 
 export type PinResult = { ok: true; userId: string; name: string } | { ok: false; reason: "wrong" | "locked" | "device_limited" | "unknown"; attemptsLeft?: number };

@@ -1,7 +1,7 @@
 // What the server bench starts and measures with: the built app as a child process it can kill and
 // start again, PostgreSQL's restart through pg_ctl, and the figures (percentiles, the table).
 import { spawn, spawnSync, type ChildProcess } from "node:child_process";
-import { openSync, realpathSync } from "node:fs";
+import { openSync } from "node:fs";
 import { resolve } from "node:path";
 
 const ROOT = resolve(import.meta.dirname, "../..");
@@ -9,7 +9,7 @@ export const APP_PORT = Number(process.env.APP_PORT ?? 3201);
 export const APP_URL = `http://127.0.0.1:${APP_PORT}`;
 export const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
-/** The built app (`react-router-serve`), as test.sh starts it, with the alert timings left at their defaults. */
+/** The built app (scripts/serve.mjs, one process per core unless WEB_CONCURRENCY), as test.sh starts it, with the alert timings left at their defaults. */
 export class AppProcess {
   child: ChildProcess | null = null;
   exits: { at: number; code: number | null; signal: string | null }[] = [];
@@ -21,8 +21,7 @@ export class AppProcess {
     // e.g. BENCH_APP_NODE_ARGS="--cpu-prof --cpu-prof-dir=.data/prof" to profile the app under load.
     const nodeArgs = process.env.BENCH_APP_NODE_ARGS?.split(" ").filter(Boolean) ?? [];
     const out = openSync(this.log, "a");
-    const serve = realpathSync(resolve(ROOT, "node_modules/.bin/react-router-serve"));
-    const child = spawn(process.execPath, [...nodeArgs, serve, "./build/server/index.js"], { cwd: ROOT, env, stdio: ["ignore", out, out] });
+    const child = spawn(process.execPath, [...nodeArgs, "scripts/serve.mjs", "./build/server/index.js"], { cwd: ROOT, env, stdio: ["ignore", out, out] });
     this.child = child;
     child.on("exit", (code, signal) => {
       this.exits.push({ at: Date.now(), code, signal });

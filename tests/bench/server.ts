@@ -3,7 +3,7 @@
 // the environment. Figures, not pass/fail: it exits non-zero only when a reading was lost or doubled.
 //   BENCH_SECONDS (20)  BENCH_CONNECTIONS (50)  BENCH_LIVE_CONNECTIONS (10)  BENCH_EXPORTS (10)  BENCH_PACE_SECONDS (5)
 //   BENCH_TABLETS (50)  BENCH_FAULT_SECONDS (20)
-//   BENCH_PHASES: a comma-separated subset of live-alone, poll-alone, paced, spread, mixed, posts-alone,
+//   BENCH_PHASES: a comma-separated subset of idle, live-alone, poll-alone, paced, spread, mixed, posts-alone,
 //   export, bare (default: all), e.g. to profile one of them with BENCH_APP_NODE_ARGS.
 import autocannon, { type Instance } from "autocannon";
 import { cpus } from "node:os";
@@ -69,9 +69,10 @@ try {
   const startMs = await app.start();
   console.log(`app started in ${startMs} ms (pid ${app.pid}, ${APP_URL})`);
 
-  const station = { cookie: `cw_station=${k.stationToken}` };
+  const station: Record<string, string> = { cookie: `cw_station=${k.stationToken}` };
   const live = await fetch(`${APP_URL}/station`, { headers: station });
   const html = await live.text();
+  console.log(`live view: ${(Buffer.byteLength(html) / 1024).toFixed(0)} KB of HTML for ${COOLING} batches`);
   const lots = new Set(html.match(/\bC-\d+\b/g) ?? []);
   if (live.status !== 200 || lots.size !== COOLING) throw new Error(`the live view shows ${lots.size} of ${COOLING} batches (status ${live.status})`);
 
@@ -119,6 +120,26 @@ try {
     await measure(autocannon({ url: APP_URL, connections: 2, duration: 2, headers: station, requests: [{ method: "GET", path: "/station" }] }));
     await measure(posts("warm-up", 2));
 
+    // One request at a time on an idle server: what a single live view costs, compressed as a browser
+    // asks for it (gzip; fetch's default) and not.
+    const idle = async (path: string, headers: Record<string, string>) => {
+      const m: Measured = { latencies: [], statuses: new Map(), errors: 0, seconds: 0 };
+      const start = performance.now();
+      for (let i = 0; i < 40; i++) {
+        const t = performance.now();
+        const res = await fetch(`${APP_URL}${path}`, { headers });
+        await res.arrayBuffer();
+        m.latencies.push(performance.now() - t);
+        m.statuses.set(res.status, (m.statuses.get(res.status) ?? 0) + 1);
+      }
+      m.seconds = (performance.now() - start) / 1000;
+      return m;
+    };
+    if (want("idle")) {
+      figures.push(figure("idle: live view GET /station, one at a time, gzip", await idle("/station", { ...station, "accept-encoding": "gzip" })));
+      figures.push(figure("idle: live view GET /station, one at a time, uncompressed", await idle("/station", { ...station, "accept-encoding": "identity" })));
+      figures.push(figure("idle: live view poll GET /station.data, one at a time, gzip", await idle("/station.data", { ...station, "accept-encoding": "gzip" })));
+    }
     const liveAlone = want("live-alone") ? await measure(liveView(Math.max(5, SECONDS / 2))) : none();
     if (want("live-alone")) figures.push(figure(`saturated: live view GET /station alone (${LIVE_CONNECTIONS} conn., ${COOLING} active batches)`, liveAlone));
     // What an open station page fetches when it polls: the loader's data, without the HTML.

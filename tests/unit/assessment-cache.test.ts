@@ -2,7 +2,7 @@ import { describe, expect, it } from "vitest";
 import type { batches, products, readings } from "~db/schema";
 import { assessBatch, type AssessInput } from "~/lib/engine/assess";
 import { getRuleSet } from "~/lib/rule-sets";
-import { ASSESSMENT_REUSE_MS, assessWithReuse, recordKey } from "~/server/assessment-cache.server";
+import { ASSESSMENT_REUSE_MS, ASSESSMENT_STALE_MS, assessWithReuse, recordKey, refreshesSettled } from "~/server/assessment-cache.server";
 import type { BatchRow } from "~/server/batches.server";
 
 const fda = getRuleSet("fda-3-501.14-a")!;
@@ -24,7 +24,7 @@ describe("reusing a batch's assessment", () => {
   it("the same record within the window is assessed once; another key, a fresh read or the window's end assesses again", () => {
     const id = batchId();
     let runs = 0;
-    const run = (now: number) => () => (runs++, assessBatch(input(now)));
+    const run = (_now: number) => (at: number) => (runs++, assessBatch(input(at)));
     const first = assessWithReuse(id, "k1", t0 + 30 * min, false, run(t0 + 30 * min));
     // Reused for at least half the window.
     expect(assessWithReuse(id, "k1", t0 + 30 * min + ASSESSMENT_REUSE_MS / 2 - 1, false, run(t0 + 30 * min + 5000))).toBe(first);
@@ -36,17 +36,49 @@ describe("reusing a batch's assessment", () => {
     const fresh = assessWithReuse(id, "k2", t0 + 30 * min + 7500, true, run(t0 + 30 * min + 7500));
     expect(runs).toBe(3);
     expect(assessWithReuse(id, "k2", t0 + 30 * min + 8000, false, run(t0 + 30 * min + 8000))).toBe(fresh);
-    assessWithReuse(id, "k2", t0 + 30 * min + 7500 + ASSESSMENT_REUSE_MS, false, run(t0 + 30 * min + 7500 + ASSESSMENT_REUSE_MS));
+    assessWithReuse(id, "k2", t0 + 30 * min + 7500 + ASSESSMENT_STALE_MS, false, run(t0 + 30 * min + 7500 + ASSESSMENT_STALE_MS));
     expect(runs).toBe(4);
+  });
+
+  it("after the window, the kept one is answered at once and a new one is made after the answer; past the stale limit it is made at once", async () => {
+    const id = batchId();
+    let runs = 0;
+    const made: number[] = [];
+    const run = (at: number) => (runs++, made.push(at), assessBatch(input(at)));
+    const at = t0 + 30 * min;
+    const first = assessWithReuse(id, "k", at, false, run);
+    const later = at + ASSESSMENT_REUSE_MS + 1;
+    expect(assessWithReuse(id, "k", later, false, run)).toBe(first);
+    // Asked twice before it runs: queued once.
+    expect(assessWithReuse(id, "k", later + 10, false, run)).toBe(first);
+    expect(runs).toBe(1);
+    await refreshesSettled();
+    expect(runs).toBe(2);
+    // Made at the reader's clock (plus the moments it waited), not at the first one's.
+    expect(made[1]).toBeGreaterThanOrEqual(later);
+    expect(made[1]).toBeLessThan(later + 5_000);
+    const second = assessWithReuse(id, "k", later + 20, false, run);
+    expect(second).not.toBe(first);
+    expect(second.prediction.now.centerC).toBeLessThan(first.prediction.now.centerC);
+    expect(runs).toBe(2);
+    // A record that changed is never answered from the old one, stale or not.
+    expect(assessWithReuse(id, "k-new", later + 30, false, run)).not.toBe(second);
+    expect(runs).toBe(3);
+    // Too old to answer even while a new one is made: made at once.
+    const third = assessWithReuse(id, "k-new", later + 30 + ASSESSMENT_STALE_MS, false, run);
+    expect(runs).toBe(4);
+    await refreshesSettled();
+    expect(runs).toBe(4);
+    expect(assessWithReuse(id, "k-new", later + 40 + ASSESSMENT_STALE_MS, false, run)).toBe(third);
   });
 
   it("is never reused across a deadline: the stage becomes missed on time", () => {
     const id = batchId();
     const deadline = assessBatch(input(t0 + 30 * min)).evaluation.stages[0].deadline!;
     const before = deadline - 2000;
-    const a = assessWithReuse(id, "k", before, false, () => assessBatch(input(before)));
+    const a = assessWithReuse(id, "k", before, false, (at) => assessBatch(input(at)));
     expect(a.evaluation.stages[0].status).not.toBe("missed");
-    const after = assessWithReuse(id, "k", deadline + 1000, false, () => assessBatch(input(deadline + 1000)));
+    const after = assessWithReuse(id, "k", deadline + 1000, false, (at) => assessBatch(input(at)));
     expect(after).not.toBe(a);
     expect(after.evaluation.stages[0].status).toBe("missed");
   });
