@@ -63,6 +63,7 @@ async function serve() {
   const client = resolve(buildPath, "../../client");
   const app = express();
   app.disable("x-powered-by");
+  app.use(logSlow);
   app.use(compression());
   app.use(coalesceWrites);
   app.use("/assets", express.static(resolve(client, "assets"), { immutable: true, maxAge: "1y" }));
@@ -138,5 +139,15 @@ function coalesceWrites(_req, res, next) {
     if (callback) res.once("finish", callback);
     return size ? end(take()) : end();
   };
+  next();
+}
+
+/** Logs an answer that took more than 5 s, finished or not, with this process's id. */
+function logSlow(req, res, next) {
+  const start = performance.now();
+  res.once("close", () => {
+    const s = (performance.now() - start) / 1000;
+    if (s > 5) console.error(`[chillwright] ${res.writableFinished ? "slow answer" : "answer cut off"}: ${req.method} ${req.originalUrl.slice(0, 200)} ${res.statusCode} after ${s.toFixed(1)} s (process ${process.pid})`);
+  });
   next();
 }

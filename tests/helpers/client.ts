@@ -53,7 +53,15 @@ export class Client {
     }
     // A streamed request body needs half-duplex in Node's fetch.
     const duplex = body instanceof ReadableStream ? { duplex: "half" } : {};
-    const res = await fetch(new URL(path, APP_URL), { method, headers, body, redirect: "manual", ...duplex } as RequestInit);
+    let res: Response;
+    try {
+      res = await fetch(new URL(path, APP_URL), { method, headers, body, redirect: "manual", ...duplex } as RequestInit);
+    } catch (e) {
+      // "fetch failed" alone does not say what failed: the request and the socket's own error do.
+      const cause = (e as { cause?: { code?: string; message?: string } }).cause;
+      if (e instanceof Error) e.message = `${method} ${path}: ${e.message}${cause ? ` (${[cause.code, cause.message].filter(Boolean).join(": ")})` : ""}`;
+      throw e;
+    }
     this.store(res);
     return res;
   }
