@@ -153,7 +153,8 @@ try {
     // paced phase above measures bursts. Here each tablet and station keeps its own clock instead, at a
     // random phase, one request every PACE s on average: what a kitchen's tablets look like.
     const spread = async (seconds: number) => {
-      const out = { posts: { latencies: [] as number[], statuses: new Map<number, number>(), errors: 0, seconds }, live: { latencies: [] as number[], statuses: new Map<number, number>(), errors: 0, seconds } };
+      const series = (): Measured => ({ latencies: [], statuses: new Map(), errors: 0, seconds });
+      const out = { posts: series(), live: series(), poll: series() };
       const end = Date.now() + seconds * 1000;
       const pause = (ms: number) => new Promise((r) => setTimeout(r, ms));
       const count = (m: Measured, status: number, ms: number) => {
@@ -182,25 +183,35 @@ try {
           await pause(PACE * 1000 * (0.5 + Math.random()));
         }
       };
-      const stationPoll = async () => {
+      // Stations opening the page, and open pages polling its data (what a live view does meanwhile).
+      const stationPoll = async (path: string, m: Measured) => {
         await pause(Math.random() * PACE * 1000);
         while (Date.now() < end) {
           const t = performance.now();
           try {
-            const res = await fetch(`${APP_URL}/station`, { headers: station });
+            const res = await fetch(`${APP_URL}${path}`, { headers: station });
             await res.text();
-            count(out.live, res.status, performance.now() - t);
+            count(m, res.status, performance.now() - t);
           } catch {
-            out.live.errors++;
+            m.errors++;
           }
           await pause(PACE * 1000 * (0.5 + Math.random()));
         }
       };
-      await Promise.all([...Array.from({ length: CONNECTIONS }, (_, j) => tablet(j)), ...Array.from({ length: LIVE_CONNECTIONS }, () => stationPoll())]);
+      await Promise.all([
+        ...Array.from({ length: CONNECTIONS }, (_, j) => tablet(j)),
+        ...Array.from({ length: LIVE_CONNECTIONS }, () => stationPoll("/station", out.live)),
+        ...Array.from({ length: LIVE_CONNECTIONS }, () => stationPoll("/station.data", out.poll)),
+      ]);
       return out;
     };
-    const spreadOut = want("spread") ? await spread(SECONDS) : { posts: none(), live: none() };
-    if (want("spread")) figures.push(figure(`spread: reading POST, ${CONNECTIONS} tablets × 1 per ${PACE} s each on its own clock`, spreadOut.posts), figure(`spread: live view GET /station, ${LIVE_CONNECTIONS} stations × 1 per ${PACE} s, meanwhile`, spreadOut.live));
+    const spreadOut = want("spread") ? await spread(SECONDS) : { posts: none(), live: none(), poll: none() };
+    if (want("spread"))
+      figures.push(
+        figure(`spread: reading POST, ${CONNECTIONS} tablets × 1 per ${PACE} s each on its own clock`, spreadOut.posts),
+        figure(`spread: live view GET /station, ${LIVE_CONNECTIONS} stations × 1 per ${PACE} s, meanwhile`, spreadOut.live),
+        figure(`spread: live view poll GET /station.data, ${LIVE_CONNECTIONS} open pages × 1 per ${PACE} s, meanwhile`, spreadOut.poll),
+      );
     // Saturation: every connection sends again as soon as it is answered.
     const [mixedPosts, mixedLive] = want("mixed") ? await Promise.all([measure(posts("load-mixed", SECONDS)), measure(liveView(SECONDS))]) : [none(), none()];
     if (want("mixed")) figures.push(figure(`saturated: reading POST while the live view polls (${CONNECTIONS} conn.)`, mixedPosts), figure(`saturated: live view GET /station during the POSTs (${LIVE_CONNECTIONS} conn.)`, mixedLive));
@@ -268,7 +279,7 @@ try {
     // A phase left out by BENCH_PHASES has no figures to judge.
     const verdict = (m: Measured, limit: number) => (m.latencies.length ? `${p95(m.latencies).toFixed(1)} ms ${p95(m.latencies) < limit ? "met" : "MISSED"}` : "not run");
     console.log(`target: reading POST p95 < 100 ms at ${CONNECTIONS} clients while the live view polls: spread ${verdict(spreadOut.posts, 100)}, paced ${verdict(pacedPosts, 100)}, saturated ${verdict(mixedPosts, 100)}`);
-    console.log(`target: live view of ${COOLING} active batches p95 < 150 ms: spread ${verdict(spreadOut.live, 150)}, paced during the POSTs ${verdict(pacedLive, 150)}, saturated alone ${verdict(liveAlone, 150)}`);
+    console.log(`target: live view of ${COOLING} active batches p95 < 150 ms: spread page ${verdict(spreadOut.live, 150)}, spread poll ${verdict(spreadOut.poll, 150)}, paced during the POSTs ${verdict(pacedLive, 150)}, saturated alone ${verdict(liveAlone, 150)}`);
     console.log(`readings: ${sentPosts} POSTs sent, ${acked.length} answered 2xx (${ackedLoad} in the measured phases); stored ${check.stored}, distinct ${check.distinct}, acknowledged and stored ${check.acked}`);
     if (check.stored !== check.distinct || check.acked !== ackedLoad) {
       console.error("✗ a reading answered with a 2xx is missing, or one is stored twice");
