@@ -1,8 +1,8 @@
 // Cooling rule sets: the critical limits of each stage, as versioned data. Each cites its source.
 // reference/rule-sets.json holds the same data; a unit test keeps the two equal.
 import { z } from "zod";
-import { fromCelsius, toCelsius, type TemperatureUnit } from "~/lib/temperature";
 import { text } from "~/lib/forms";
+import { fromCelsius, toCelsius, type TemperatureUnit } from "~/lib/temperature";
 
 /**
  * A temperature limit in both units. `published` lists the units the source prints, in its order;

@@ -1,8 +1,8 @@
 // The pure parts of share links: the form a QA lead or manager fills in, and the site-local times it uses.
 import { z } from "zod";
 import { zoneOffsetMs } from "./chart-data";
+import { text } from "./forms";
 import { MAX_RANGE_DAYS } from "./records-export";
-import { text } from "~/lib/forms";
 
 const DAY_MS = 86_400_000;
 export const SHARE_MAX_EXPIRY_DAYS = 90;

@@ -6,7 +6,7 @@ import { CAUTION } from "~/lib/engine/request";
 import type { Assessment } from "~/lib/engine/assess";
 import type { ApiCaller } from "./api-tokens.server";
 import type { Entrant } from "./batches.server";
-import { db } from "./db.server";
+import { db, inUuids } from "./db.server";
 import { readBody } from "./photos.server";
 
 /** zod issues as `{ "field.path": message }`, the API's error shape. */
@@ -52,15 +52,15 @@ export async function siteForStart(caller: ApiCaller, siteId: unknown) {
   return site;
 }
 
-/** The site of a batch the caller may see; 404 for anything else. */
 // Asked on every entry through the API: built once, prepared once per connection.
 const siteOfBatchStatement = db
   .select({ site: sites })
   .from(batches)
   .innerJoin(sites, eq(sites.id, batches.siteId))
-  .where(and(eq(batches.id, sql.placeholder("batchId")), sql`${batches.siteId} = any(${sql.placeholder("siteIds")}::uuid[])`))
+  .where(and(eq(batches.id, sql.placeholder("batchId")), inUuids(batches.siteId, "siteIds")))
   .prepare("cw_site_of_batch");
 
+/** The site of a batch the caller may see; 404 for anything else. */
 export async function siteOfBatch(caller: ApiCaller, batchId: string, forEntry: boolean) {
   const visible = forEntry ? entrySiteIds(caller) : caller.siteIds;
   const [row] = await siteOfBatchStatement.execute({ batchId, siteIds: visible });

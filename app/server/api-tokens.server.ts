@@ -63,10 +63,6 @@ export type ApiCaller =
 
 const jsonError = (status: number, message: string) => data({ error: message }, { status });
 
-/**
- * Who is calling an API route: a signed-in user (session cookie) or a site API token
- * (`Authorization: Bearer cw_…`). Anyone else gets a JSON 401.
- */
 // Asked on every API request: built once, prepared once per connection.
 const tokenStatement = db
   .select({ id: siteApiTokens.id, siteId: siteApiTokens.siteId, organisationId: sites.organisationId })
@@ -78,6 +74,10 @@ const tokenStatement = db
 // When this process last wrote each token's last use (ms).
 const lastUseWritten = new Map<string, number>();
 
+/**
+ * Who is calling an API route: a signed-in user (session cookie) or a site API token
+ * (`Authorization: Bearer cw_…`). Anyone else gets a JSON 401.
+ */
 export async function requireApiCaller(request: Request): Promise<ApiCaller> {
   const auth = request.headers.get("authorization");
   if (auth) {

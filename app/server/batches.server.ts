@@ -1,5 +1,4 @@
-import { and, asc, eq, inArray, ne, sql } from "drizzle-orm";
-import type { PgColumn } from "drizzle-orm/pg-core";
+import { and, asc, eq, ne, sql } from "drizzle-orm";
 import { z } from "zod";
 import { auditEvents, batches, correctiveActions, equipment, panTypes, photos, products, readings, sites } from "~db/schema";
 import { assessBatch, evaluateRecord, type AssessInput, type Assessment } from "~/lib/engine/assess";
@@ -9,10 +8,10 @@ import { getRuleSet } from "~/lib/rule-sets";
 import { toCelsius } from "~/lib/temperature";
 import { alertsAfterEntry } from "./alerts.server";
 import { groupBy } from "~/lib/group-by";
+import { text } from "~/lib/forms";
 import { assessWithReuse, readingsKey, readingsKeyOf, recordKey } from "./assessment-cache.server";
 import { recordAudit, type Actor } from "./audit.server";
-import { db } from "./db.server";
-import { text } from "~/lib/forms";
+import { db, inUuids } from "./db.server";
 
 /** An entry made more than this long after it was taken is marked late in every view and export. */
 export const LATE_AFTER_MS = 15 * 60_000;
@@ -340,15 +339,17 @@ export async function assess(site: Site, batchId: string, now = Date.now()): Pro
   return (await assessRead(site, batchId, now))?.assessment ?? null;
 }
 
-// A batch of this site with what its assessment reads besides the readings: product and equipment.
 // The queries every entry and every live view makes, built once and prepared by PostgreSQL once per
 // connection (named statements): building a query is a good part of an entry's own work.
 const param = sql.placeholder;
-const batchRowStatement = db
-  .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
-  .from(batches)
-  .innerJoin(products, eq(products.id, batches.productId))
-  .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
+// Batches with what their assessment reads besides the readings: product and equipment.
+const batchRows = () =>
+  db
+    .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
+    .from(batches)
+    .innerJoin(products, eq(products.id, batches.productId))
+    .leftJoin(equipment, eq(equipment.id, batches.equipmentId));
+const batchRowStatement = batchRows()
   .where(and(eq(batches.id, param("batchId")), eq(batches.siteId, param("siteId"))))
   .prepare("cw_batch_row");
 const readingsStatement = db.select().from(readings).where(eq(readings.batchId, param("batchId"))).orderBy(asc(readings.takenAt)).prepare("cw_batch_readings");
@@ -532,7 +533,7 @@ async function learnFromBatch(tx: Parameters<Parameters<typeof db.transaction>[0
 }
 
 // The live view's queries, prepared as the entry's are (above); `ids` is an array of uuids.
-const inIds = (column: PgColumn) => sql`${column} = any(${param("ids")}::uuid[])`;
+const inIds = (column: Parameters<typeof inUuids>[0]) => inUuids(column, "ids");
 const readingStatsStatement = db
   .select({ batchId: readings.batchId, count: sql<number>`count(*)::int`, last: sql<Date>`max(${readings.receivedAt})`.mapWith(readings.receivedAt) })
   .from(readings)
@@ -540,11 +541,7 @@ const readingStatsStatement = db
   .groupBy(readings.batchId)
   .prepare("cw_readings_stats");
 const readingsOfStatement = db.select().from(readings).where(inIds(readings.batchId)).orderBy(asc(readings.takenAt)).prepare("cw_readings_of");
-const activeStatement = db
-  .select({ batch: batches, product: products, learnedLnS: equipment.learnedLnS, learnedSd: equipment.learnedSd, learnedBatches: equipment.learnedBatches })
-  .from(batches)
-  .innerJoin(products, eq(products.id, batches.productId))
-  .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
+const activeStatement = batchRows()
   .where(and(inIds(batches.siteId), eq(batches.state, "cooling")))
   .orderBy(asc(batches.startedAt))
   .prepare("cw_active_batches");

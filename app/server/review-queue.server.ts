@@ -1,9 +1,9 @@
 import { and, asc, desc, eq, sql, type SQL } from "drizzle-orm";
 import { z } from "zod";
 import { actionConfirmations, batches, correctiveActions, products, readings, sites, verifications } from "~db/schema";
+import { text } from "~/lib/forms";
 import { defaultQueueQuery, firstDir, pageSizes, reviewReasons, sortKeys, type QueueQuery, type ReasonCode } from "~/lib/review-reasons";
 import { db } from "./db.server";
-import { text } from "~/lib/forms";
 
 /**
  * Each reason a batch needs a manager, as SQL over `batches` (joined to `sites` for the grace period).

@@ -2,11 +2,11 @@ import { and, asc, count, eq, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { z } from "zod";
 import { actionConfirmations, batches, correctiveActions, memberships, readings, sites, users, verifications } from "~db/schema";
+import { text } from "~/lib/forms";
 import { getI18n, languages, type Language } from "~/lib/i18n";
 import { recordAudit } from "./audit.server";
 import { db, type Tx } from "./db.server";
 import { can, type Role } from "./guards.server";
-import { text } from "~/lib/forms";
 
 /**
  * The words a signature stands for live in the locales as `verify.statementV<n>`. Changing them means

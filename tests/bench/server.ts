@@ -41,7 +41,12 @@ const { signedIn } = await import("../helpers/client");
 const { faultsHeld, printFaults, runFaults } = await import("./server-faults");
 
 type Measured = { latencies: number[]; statuses: Map<number, number>; errors: number; seconds: number };
-const none = (): Measured => ({ latencies: [], statuses: new Map(), errors: 0, seconds: 1 });
+const none = (seconds = 1): Measured => ({ latencies: [], statuses: new Map(), errors: 0, seconds });
+/** One answer's latency and status, into a series measured by hand (not by autocannon). */
+const count = (m: Measured, status: number, ms: number) => {
+  m.latencies.push(ms);
+  m.statuses.set(status, (m.statuses.get(status) ?? 0) + 1);
+};
 
 /** Runs an autocannon instance to its end, keeping every response's latency (autocannon reports no p95). */
 async function measure(inst: Instance): Promise<Measured> {
@@ -69,7 +74,7 @@ try {
   const startMs = await app.start();
   console.log(`app started in ${startMs} ms (pid ${app.pid}, ${APP_URL})`);
 
-  const station: Record<string, string> = { cookie: `cw_station=${k.stationToken}` };
+  const station = { cookie: `cw_station=${k.stationToken}` };
   const live = await fetch(`${APP_URL}/station`, { headers: station });
   const html = await live.text();
   console.log(`live view: ${(Buffer.byteLength(html) / 1024).toFixed(0)} KB of HTML for ${COOLING} batches`);
@@ -123,14 +128,13 @@ try {
     // One request at a time on an idle server: what a single live view costs, compressed as a browser
     // asks for it (gzip; fetch's default) and not.
     const idle = async (path: string, headers: Record<string, string>) => {
-      const m: Measured = { latencies: [], statuses: new Map(), errors: 0, seconds: 0 };
+      const m = none();
       const start = performance.now();
       for (let i = 0; i < 40; i++) {
         const t = performance.now();
         const res = await fetch(`${APP_URL}${path}`, { headers });
         await res.arrayBuffer();
-        m.latencies.push(performance.now() - t);
-        m.statuses.set(res.status, (m.statuses.get(res.status) ?? 0) + 1);
+        count(m, res.status, performance.now() - t);
       }
       m.seconds = (performance.now() - start) / 1000;
       return m;
@@ -153,14 +157,9 @@ try {
     // paced phase above measures bursts. Here each tablet and station keeps its own clock instead, at a
     // random phase, one request every PACE s on average: what a kitchen's tablets look like.
     const spread = async (seconds: number) => {
-      const series = (): Measured => ({ latencies: [], statuses: new Map(), errors: 0, seconds });
-      const out = { posts: series(), live: series(), poll: series() };
+      const out = { posts: none(seconds), live: none(seconds), poll: none(seconds) };
       const end = Date.now() + seconds * 1000;
       const pause = (ms: number) => new Promise((r) => setTimeout(r, ms));
-      const count = (m: Measured, status: number, ms: number) => {
-        m.latencies.push(ms);
-        m.statuses.set(status, (m.statuses.get(status) ?? 0) + 1);
-      };
       const tablet = async (j: number) => {
         await pause(Math.random() * PACE * 1000);
         for (let n = 0; Date.now() < end; n++) {

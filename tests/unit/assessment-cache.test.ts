@@ -21,22 +21,22 @@ let n = 0;
 const batchId = () => `batch-${n++}`;
 
 describe("reusing a batch's assessment", () => {
-  it("the same record within the window is assessed once; another key, a fresh read or the window's end assesses again", () => {
+  it("the same record within the window is assessed once; another key, a fresh read or the stale limit assesses again", () => {
     const id = batchId();
     let runs = 0;
-    const run = (_now: number) => (at: number) => (runs++, assessBatch(input(at)));
-    const first = assessWithReuse(id, "k1", t0 + 30 * min, false, run(t0 + 30 * min));
+    const run = (at: number) => (runs++, assessBatch(input(at)));
+    const first = assessWithReuse(id, "k1", t0 + 30 * min, false, run);
     // Reused for at least half the window.
-    expect(assessWithReuse(id, "k1", t0 + 30 * min + ASSESSMENT_REUSE_MS / 2 - 1, false, run(t0 + 30 * min + 5000))).toBe(first);
+    expect(assessWithReuse(id, "k1", t0 + 30 * min + ASSESSMENT_REUSE_MS / 2 - 1, false, run)).toBe(first);
     expect(runs).toBe(1);
     // A new reading or move is another key: assessed at once.
-    expect(assessWithReuse(id, "k2", t0 + 30 * min + 7400, false, run(t0 + 30 * min + 7400))).not.toBe(first);
+    expect(assessWithReuse(id, "k2", t0 + 30 * min + 7400, false, run)).not.toBe(first);
     expect(runs).toBe(2);
     // An entry or the sweep asks for a fresh one, which the next reader then gets.
-    const fresh = assessWithReuse(id, "k2", t0 + 30 * min + 7500, true, run(t0 + 30 * min + 7500));
+    const fresh = assessWithReuse(id, "k2", t0 + 30 * min + 7500, true, run);
     expect(runs).toBe(3);
-    expect(assessWithReuse(id, "k2", t0 + 30 * min + 8000, false, run(t0 + 30 * min + 8000))).toBe(fresh);
-    assessWithReuse(id, "k2", t0 + 30 * min + 7500 + ASSESSMENT_STALE_MS, false, run(t0 + 30 * min + 7500 + ASSESSMENT_STALE_MS));
+    expect(assessWithReuse(id, "k2", t0 + 30 * min + 8000, false, run)).toBe(fresh);
+    assessWithReuse(id, "k2", t0 + 30 * min + 7500 + ASSESSMENT_STALE_MS, false, run);
     expect(runs).toBe(4);
   });
 
