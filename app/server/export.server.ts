@@ -33,6 +33,11 @@ const PAGE_SIZE = 250;
  * rendering. Flagged batches come first; every batch's curve is on its batch page.
  */
 export const MAX_PICTURES = 100;
+/**
+ * Pictures drawn at once by one export: two, one per core; more only wait in libuv's pool (four
+ * threads, shared with compression) and would take from the other app process.
+ */
+const PICTURES_AHEAD = 2;
 const STAGE_COLUMNS = Math.max(...ruleSets.map((r) => r.stages.length));
 const round1 = (x: number) => Math.round(x * 10) / 10;
 
@@ -382,6 +387,17 @@ async function* curveRows(ctx: Ctx, selected: Set<string>): AsyncGenerator<Sheet
     summaryPrediction: t("chart.summaryPrediction") as string,
   };
   let shown = 0;
+  // Pictures being drawn while the rows before them are written: sharp draws on libuv's threads, so
+  // the next one's assessment and markup (on this thread) overlap the last one's rasterising.
+  const drawing: { caption: Cell[]; picture: Promise<Omit<SheetPicture, "row" | "col">> }[] = [];
+  async function* ready(keep: number): AsyncGenerator<SheetRow> {
+    while (drawing.length > keep) {
+      const next = drawing.shift()!;
+      yield next.caption;
+      shown += 1;
+      yield { picture: await next.picture, rows: CURVE_ROWS, pageBreak: shown % 2 === 0 };
+    }
+  }
   for await (const page of batchPages(ctx)) {
     const mine = page.filter((r) => selected.has(r.batch.id));
     if (!mine.length) continue;
@@ -396,7 +412,7 @@ async function* curveRows(ctx: Ctx, selected: Set<string>): AsyncGenerator<Sheet
       const record = rs.filter((r) => !r.correctsReadingId).map((r) => ({ t: r.takenAt.getTime(), c: r.valueC, late: r.late }));
       const series = chartSeries(a, record, at);
       const rule = getRuleSet(row.batch.ruleSetCode)!;
-      const png = await curvePng({
+      const png = curvePng({
         readings: record,
         predicted: series.predicted,
         band: series.band,
@@ -414,22 +430,24 @@ async function* curveRows(ctx: Ctx, selected: Set<string>): AsyncGenerator<Sheet
         acts.length ? c("flagAction") : null,
         rs.some((r) => r.late) ? c("flagLate") : null,
       ].filter(Boolean);
-      yield [
-        row.batch.lotCode,
-        row.product.name,
-        wallClock(row.batch.startedAt.getTime(), zone),
-        s(`outcomes.${a.evaluation.outcome}`),
-        flags.join(", "),
-        { url: new URL(`/sites/${ctx.site.id}/batches/${row.batch.id}`, env.APP_URL).href, text: c("open") },
-      ];
-      shown += 1;
-      yield {
-        picture: { png, ...CURVE_SHOWN, name: `${row.batch.lotCode} ${row.product.name}`, description: c("description", { lot: row.batch.lotCode, product: row.product.name }) },
-        rows: CURVE_ROWS,
-        pageBreak: shown % 2 === 0,
-      };
+      const picture = png.then((bytes) => ({ png: bytes, ...CURVE_SHOWN, name: `${row.batch.lotCode} ${row.product.name}`, description: c("description", { lot: row.batch.lotCode, product: row.product.name }) }));
+      // Awaited in turn by ready(); until then a failure must not count as unhandled.
+      picture.catch(() => undefined);
+      drawing.push({
+        caption: [
+          row.batch.lotCode,
+          row.product.name,
+          wallClock(row.batch.startedAt.getTime(), zone),
+          s(`outcomes.${a.evaluation.outcome}`),
+          flags.join(", "),
+          { url: new URL(`/sites/${ctx.site.id}/batches/${row.batch.id}`, env.APP_URL).href, text: c("open") },
+        ],
+        picture,
+      });
+      yield* ready(PICTURES_AHEAD - 1);
     }
   }
+  yield* ready(0);
 }
 
 // Every string that lands in a data row may come from a person (lot codes, names, reasons): the
