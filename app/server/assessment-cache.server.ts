@@ -102,10 +102,21 @@ export async function refreshesSettled() {
  * how many there are and when the latest arrived: `readingsKey`, from the rows or from SQL.
  */
 export function recordKey(site: Pick<typeof sites.$inferSelect, "temperatureUnit">, row: BatchRow, rows: (typeof readings.$inferSelect)[], movedAt: number | undefined) {
-  const b = row.batch;
-  const parts: unknown[] = [site.temperatureUnit, b.ruleSetCode, getRuleSet(b.ruleSetCode)?.version, b.startedAt.getTime(), b.panSize, b.panLengthMm, b.panWidthMm, b.panDepthMm, b.fillDepthMm, b.panMaterial, b.lid, b.method];
-  parts.push(JSON.stringify(b.composition ?? row.product.composition), row.learnedLnS, row.learnedSd, row.learnedBatches, movedAt, readingsKey(rows));
-  return parts.join("|");
+  return `${site.temperatureUnit}|${rowKey(row)}|${movedAt}|${readingsKey(rows)}`;
+}
+
+// The batch row's part, once per row object: the live view keeps a batch's row while it is unwritten.
+const rowKeys = new WeakMap<BatchRow, string>();
+function rowKey(row: BatchRow) {
+  let key = rowKeys.get(row);
+  if (key === undefined) {
+    const b = row.batch;
+    const parts: unknown[] = [b.ruleSetCode, getRuleSet(b.ruleSetCode)?.version, b.startedAt.getTime(), b.panSize, b.panLengthMm, b.panWidthMm, b.panDepthMm, b.fillDepthMm, b.panMaterial, b.lid, b.method];
+    parts.push(JSON.stringify(b.composition ?? row.product.composition), row.learnedLnS, row.learnedSd, row.learnedBatches);
+    key = parts.join("|");
+    rowKeys.set(row, key);
+  }
+  return key;
 }
 
 /** How many readings and when the latest arrived (ms): what names an append-only set of them. */

@@ -212,6 +212,29 @@ describe("batches API", () => {
     expect((await listed()).record.stages[0]).toMatchObject({ status: "met", metBy: r.id });
   });
 
+  it("the active list reads a batch's row again once it, its product or its equipment is written", async () => {
+    const t = await newTenant();
+    const cook = await cookOf(t);
+    const { batch } = await started(t, cook);
+    const other = await started(t, cook, { lotCode: "L-0413" });
+    type Listed = { id: string; product: string; prediction: { stages: { reachAt: string | null }[] } };
+    const list = async () => ((await (await cook.get("/api/v1/batches?status=active")).json()) as { batches: Listed[] }).batches;
+    const mine = async () => (await list()).find((b) => b.id === batch.id)!;
+    // Twice each, so every app process has read the rows at least once (requests alternate between them).
+    for (let i = 0; i < 2; i++) expect((await mine()).product).toBe(t.product.name);
+    await db.update(products).set({ name: "Braised lentils, renamed" }).where(eq(products.id, t.product.id));
+    for (let i = 0; i < 2; i++) expect((await mine()).product).toBe("Braised lentils, renamed");
+    // The equipment's learned factor is part of the prior: a new one gives another prediction.
+    const reach = async () => (await mine()).prediction.stages.map((s) => s.reachAt);
+    const before = await reach();
+    expect(before[0]).not.toBeNull();
+    await db.update(equipment).set({ learnedLnS: Math.log(3), learnedSd: 0.05, learnedBatches: 12 }).where(eq(equipment.id, t.walkIn.id));
+    for (let i = 0; i < 2; i++) expect(Date.parse((await reach())[0]!)).toBeLessThan(Date.parse(before[0]!) - 10 * 60_000);
+    // The batch itself: ended by another process (straight into the table), it leaves the list.
+    await db.update(batches).set({ state: "discarded", endedAt: new Date() }).where(eq(batches.id, batch.id));
+    for (let i = 0; i < 2; i++) expect((await list()).map((b) => b.id)).toEqual([other.batch.id]);
+  });
+
   it("a site API token logs for its own site only; QA cannot log; another organisation sees 404", async () => {
     const t = await newTenant();
     const manager = await signedIn(t.people.manager.email, t.people.manager.password);
