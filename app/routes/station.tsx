@@ -1,5 +1,5 @@
 import { eq } from "drizzle-orm";
-import { useState } from "react";
+import { useMemo, useState } from "react";
 import { useTranslation } from "react-i18next";
 import { data, Form, Link, redirect } from "react-router";
 import { z } from "zod";
@@ -8,7 +8,7 @@ import { BatchCards } from "~/components/batch-card";
 import { useLiveNow } from "~/components/use-live-now";
 import { PendingNotice, usePending } from "~/components/reading-form";
 import { listActive } from "~/server/batches.server";
-import { cardFor } from "~/server/station-entry.server";
+import { cardFor, type CardData } from "~/server/station-entry.server";
 import { Notice } from "~/components/frame";
 import { LanguageSwitch } from "~/components/language-switch";
 import { Wordmark } from "~/components/logo";
@@ -37,7 +37,7 @@ const StationActionSchema = z.discriminatedUnion("intent", [
 
 export async function loader({ request }: Route.LoaderArgs) {
   const device = await getStationDevice(request);
-  if (!device) return { station: null, people: [], cook: null, cards: [], now: Date.now(), timeZone: "UTC", next: null };
+  if (!device) return { station: null, people: [], cook: null, cards: "[]", now: Date.now(), timeZone: "UTC", next: null };
   const [people, [site]] = await Promise.all([listStationPeople(device.siteId), db.select().from(sites).where(eq(sites.id, device.siteId))]);
   const cookId = getStationCookId(request, device);
   const cook = people.find((p) => p.id === cookId) ?? null;
@@ -48,7 +48,9 @@ export async function loader({ request }: Route.LoaderArgs) {
     station: { name: device.name, siteName: device.siteName },
     people: people.map((p) => ({ id: p.id, name: p.name, role: p.role, locked: p.locked, hasPin: p.hasPin })),
     cook: cook ? { id: cook.id, name: cook.name } : null,
-    cards: active.map((b) => cardFor(b.batch, b.product.name, b.readings, b.assessment, site.readingIntervalMinutes)),
+    // One JSON string: the router's own encoding of 200 cards' few thousand values was a sixth of a
+    // poll's work; JSON.stringify and the browser's JSON.parse are many times quicker.
+    cards: JSON.stringify(active.map((b) => cardFor(b.batch, b.product.name, b.readings, b.assessment, site.readingIntervalMinutes)) satisfies CardData[]),
     now,
     timeZone: site.timeZone,
     next: next && /^\/station(\/|$)/.test(next) ? next : null,
@@ -94,7 +96,8 @@ export async function action({ request }: Route.ActionArgs) {
 
 export default function Station({ loaderData, actionData }: Route.ComponentProps) {
   const { t } = useTranslation();
-  const { station, people, cook, cards, timeZone, next } = loaderData;
+  const { station, people, cook, timeZone, next } = loaderData;
+  const cards = useMemo(() => JSON.parse(loaderData.cards) as CardData[], [loaderData.cards]);
   const now = useLiveNow(loaderData.now);
   const pending = usePending();
   const pendingByBatch = new Map<string, number>();

@@ -534,29 +534,27 @@ async function learnFromBatch(tx: Parameters<Parameters<typeof db.transaction>[0
 
 // The live view's queries, prepared as the entry's are (above); `ids` is an array of uuids.
 const inIds = (column: Parameters<typeof inUuids>[0]) => inUuids(column, "ids");
-const readingStatsStatement = db
-  .select({ batchId: readings.batchId, count: sql<number>`count(*)::int`, last: sql<Date>`max(${readings.receivedAt})`.mapWith(readings.receivedAt) })
-  .from(readings)
-  .where(inIds(readings.batchId))
-  .groupBy(readings.batchId)
-  .prepare("cw_readings_stats");
 const readingsOfStatement = db.select().from(readings).where(inIds(readings.batchId)).orderBy(asc(readings.takenAt)).prepare("cw_readings_of");
-// The active batches as row versions (PostgreSQL's xmin: a row's version changes whenever it is
-// written), then the full rows only of those this process has not read at that version.
-const activeVersionsStatement = db
-  .select({ id: batches.id, version: sql<string>`${batches}.xmin::text || '.' || ${products}.xmin::text || '.' || coalesce(${equipment}.xmin::text, '')` })
+// The active batches in one read: each one's row version (PostgreSQL's xmin of the batch, its product
+// and its equipment: a row's changes whenever it is written), how many readings it has and when the
+// latest arrived, and its latest move. Full rows and readings are then read only for batches this
+// process has not seen at that version or count.
+const activeStatement = db
+  .select({
+    id: batches.id,
+    version: sql<string>`${batches}.xmin::text || '.' || ${products}.xmin::text || '.' || coalesce(${equipment}.xmin::text, '')`,
+    readings: sql<number>`(SELECT count(*)::int FROM ${readings} r WHERE r.batch_id = ${batches.id})`,
+    lastReceived: sql<Date | null>`(SELECT max(r.received_at) FROM ${readings} r WHERE r.batch_id = ${batches.id})`.mapWith(readings.receivedAt),
+    movedAt: sql<Date | null>`(SELECT max(ca.taken_at) FROM ${correctiveActions} ca WHERE ca.batch_id = ${batches.id} AND ca.kind = 'change_method')`.mapWith(correctiveActions.takenAt),
+  })
   .from(batches)
   .innerJoin(products, eq(products.id, batches.productId))
   .leftJoin(equipment, eq(equipment.id, batches.equipmentId))
   .where(and(inIds(batches.siteId), eq(batches.state, "cooling")))
   .orderBy(asc(batches.startedAt), asc(batches.id))
-  .prepare("cw_active_versions");
+  .prepare("cw_active_batches");
 const batchRowsOfStatement = batchRows().where(inIds(batches.id)).prepare("cw_batch_rows_of");
-const movesOfStatement = db
-  .select({ batchId: correctiveActions.batchId, takenAt: correctiveActions.takenAt })
-  .from(correctiveActions)
-  .where(and(inIds(correctiveActions.batchId), eq(correctiveActions.kind, "change_method")))
-  .prepare("cw_moves_of");
+type ActiveStats = Awaited<ReturnType<typeof activeStatement.execute>>[number];
 
 type ReadingRow = typeof readings.$inferSelect;
 // Each active batch's readings as this process last read them, with their readingsKey. Readings are
@@ -567,16 +565,19 @@ const READINGS_KEPT_MAX = 20_000; // batches; far above any site's active batche
 let readingsPrunedAt = 0;
 
 /** The readings of these batches (taken-at order), read again only for those with new ones. */
-async function readingsOfBatches(batchIds: string[], now: number): Promise<Map<string, ReadingRow[]>> {
-  const stats = await readingStatsStatement.execute({ ids: batchIds });
+async function readingsOfBatches(active: ActiveStats[], now: number): Promise<Map<string, ReadingRow[]>> {
   const out = new Map<string, ReadingRow[]>();
   const stale: string[] = [];
-  for (const st of stats) {
-    const kept = readingsKept.get(st.batchId);
-    if (kept && kept.key === readingsKeyOf(st.count, st.last.getTime())) {
+  for (const st of active) {
+    if (st.readings === 0) {
+      out.set(st.id, []);
+      continue;
+    }
+    const kept = readingsKept.get(st.id);
+    if (kept && kept.key === readingsKeyOf(st.readings, st.lastReceived!.getTime())) {
       kept.usedAt = now;
-      out.set(st.batchId, kept.rows);
-    } else stale.push(st.batchId);
+      out.set(st.id, kept.rows);
+    } else stale.push(st.id);
   }
   if (stale.length) {
     // Grouped in one pass, each batch's readings stay in taken-at order.
@@ -599,17 +600,16 @@ async function readingsOfBatches(batchIds: string[], now: number): Promise<Map<s
 const rowsKept = new Map<string, { version: string; row: BatchRow; usedAt: number }>();
 let rowsPrunedAt = 0;
 
-/** The cooling batches of these sites (start order), rows read again only for those written since. */
-async function activeRows(siteIds: string[], now: number): Promise<BatchRow[]> {
-  const versions = await activeVersionsStatement.execute({ ids: siteIds });
-  const stale = versions.filter((v) => rowsKept.get(v.id)?.version !== v.version);
+/** The batches' rows (with `active`'s order), read again only for those written since. */
+async function rowsOfBatches(active: ActiveStats[], now: number): Promise<BatchRow[]> {
+  const stale = active.filter((v) => rowsKept.get(v.id)?.version !== v.version);
   if (stale.length) {
     const version = new Map(stale.map((v) => [v.id, v.version]));
     // A row written between the two reads is kept under the older version: read again next time.
     for (const row of await batchRowsOfStatement.execute({ ids: stale.map((v) => v.id) })) rowsKept.set(row.batch.id, { version: version.get(row.batch.id)!, row, usedAt: now });
   }
   const out: BatchRow[] = [];
-  for (const v of versions) {
+  for (const v of active) {
     const kept = rowsKept.get(v.id);
     // Gone or ended between the two reads: not active any more.
     if (!kept || kept.row.batch.state !== "cooling") continue;
@@ -632,17 +632,11 @@ async function activeRows(siteIds: string[], now: number): Promise<BatchRow[]> {
 export async function listActive(siteRows: Site[], now = Date.now(), options: { fresh?: boolean } = {}) {
   if (siteRows.length === 0) return [];
   const ids = siteRows.map((s) => s.id);
-  const rows = await activeRows(ids, now);
-  const ids2 = rows.map((r) => r.batch.id);
-  const [readingsOf, moves] = rows.length
-    ? await Promise.all([
-        readingsOfBatches(ids2, now),
-        movesOfStatement.execute({ ids: ids2 }),
-      ])
-    : [new Map<string, (typeof readings.$inferSelect)[]>(), []];
+  const active = await activeStatement.execute({ ids });
+  if (active.length === 0) return [];
+  const [rows, readingsOf] = await Promise.all([rowsOfBatches(active, now), readingsOfBatches(active, now)]);
   const siteById = new Map(siteRows.map((s) => [s.id, s]));
-  const movedAt = new Map<string, number>();
-  for (const m of moves) movedAt.set(m.batchId, Math.max(movedAt.get(m.batchId) ?? -Infinity, m.takenAt.getTime()));
+  const movedAt = new Map(active.map((a) => [a.id, a.movedAt?.getTime()]));
   const out = [];
   let sinceYield = performance.now();
   for (const row of rows) {

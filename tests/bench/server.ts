@@ -5,6 +5,7 @@
 //   BENCH_TABLETS (50)  BENCH_FAULT_SECONDS (20)
 //   BENCH_PHASES: a comma-separated subset of idle, live-alone, poll-alone, paced, spread, mixed, posts-alone,
 //   export, bare (default: all), e.g. to profile one of them with BENCH_APP_NODE_ARGS.
+import { gzipSync } from "node:zlib";
 import autocannon, { type Instance } from "autocannon";
 import { cpus } from "node:os";
 import pg from "pg";
@@ -77,7 +78,9 @@ try {
   const station = { cookie: `cw_station=${k.stationToken}` };
   const live = await fetch(`${APP_URL}/station`, { headers: station });
   const html = await live.text();
-  console.log(`live view: ${(Buffer.byteLength(html) / 1024).toFixed(0)} KB of HTML for ${COOLING} batches`);
+  const poll = await (await fetch(`${APP_URL}/station.data`, { headers: station })).text();
+  const kb = (text: string) => `${(Buffer.byteLength(text) / 1024).toFixed(0)} KB (${(gzipSync(text).length / 1024).toFixed(0)} KB gzip)`;
+  console.log(`live view: ${kb(html)} of HTML for ${COOLING} batches, its poll ${kb(poll)}`);
   const lots = new Set(html.match(/\bC-\d+\b/g) ?? []);
   if (live.status !== 200 || lots.size !== COOLING) throw new Error(`the live view shows ${lots.size} of ${COOLING} batches (status ${live.status})`);
 
