@@ -49,7 +49,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     people: people.map((p) => ({ id: p.id, name: p.name, role: p.role, locked: p.locked, hasPin: p.hasPin })),
     cook: cook ? { id: cook.id, name: cook.name } : null,
     // One JSON string: the router's own encoding of 200 cards' few thousand values was a sixth of a
-    // poll's work; JSON.stringify and the browser's JSON.parse are many times quicker.
+    // poll's work in a CPU profile (17 %); JSON.stringify here and JSON.parse in the browser replace it.
     cards: JSON.stringify(active.map((b) => cardFor(b.batch, b.product.name, b.readings, b.assessment, site.readingIntervalMinutes)) satisfies CardData[]),
     now,
     timeZone: site.timeZone,

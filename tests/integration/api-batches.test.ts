@@ -220,7 +220,7 @@ describe("batches API", () => {
     type Listed = { id: string; product: string; prediction: { stages: { reachAt: string | null }[] } };
     const list = async () => ((await (await cook.get("/api/v1/batches?status=active")).json()) as { batches: Listed[] }).batches;
     const mine = async () => (await list()).find((b) => b.id === batch.id)!;
-    // Twice each, so every app process has read the rows at least once (requests alternate between them).
+    // Read twice before each change, so the rows are kept, and twice after: the kept ones must not answer.
     for (let i = 0; i < 2; i++) expect((await mine()).product).toBe(t.product.name);
     await db.update(products).set({ name: "Braised lentils, renamed" }).where(eq(products.id, t.product.id));
     for (let i = 0; i < 2; i++) expect((await mine()).product).toBe("Braised lentils, renamed");
