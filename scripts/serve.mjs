@@ -73,6 +73,12 @@ async function serve() {
   const server = app.listen(port, host, () => {
     if (!cluster.isWorker) console.log(`[chillwright] http://${host}:${port}`);
   });
+  // An idle connection is closed by its client, not here. Node closes one after 5 s; a client that
+  // sends its next request on it just then (the test client's own limit is 4 s, and its timer fires
+  // late while its event loop is busy) gets a reset instead of an answer: an ECONNRESET on a GET in
+  // the hostile-input tests. Headers may then take longer than the idle wait.
+  server.keepAliveTimeout = 65_000;
+  server.headersTimeout = 66_000;
   server.on("error", (e) => {
     console.error(`[chillwright] cannot listen on ${host}:${port}: ${e.message}`);
     process.exit(1);
