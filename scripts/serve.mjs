@@ -74,10 +74,10 @@ async function serve() {
     if (!cluster.isWorker) console.log(`[chillwright] http://${host}:${port}`);
   });
   // An idle connection is closed by its client, not here. Node closes one after 5 s; a client that
-  // sends its next request on it just then (the test client's fetch keeps one 4 s, undici's default as
-  // remembered, not looked up here; its timer fires
-  // late while its event loop is busy) gets a reset instead of an answer: an ECONNRESET on a GET in
-  // the hostile-input tests. Headers may then take longer than the idle wait.
+  // sends its next request on it just then gets a reset instead of an answer: an ECONNRESET on a GET
+  // in the hostile-input tests, whose fetch keeps an idle connection 4 s (undici's default as
+  // remembered, not looked up here) by a timer that fires late while its event loop is busy.
+  // Headers may then take longer than the idle wait.
   server.keepAliveTimeout = 65_000;
   server.headersTimeout = 66_000;
   server.on("error", (e) => {
