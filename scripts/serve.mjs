@@ -64,6 +64,7 @@ async function serve() {
   const app = express();
   app.disable("x-powered-by");
   app.use(logSlow);
+  app.use(drainUnreadBodies);
   app.use(compression());
   app.use(coalesceWrites);
   app.use("/assets", express.static(resolve(client, "assets"), { immutable: true, maxAge: "1y" }));
@@ -146,6 +147,30 @@ function coalesceWrites(_req, res, next) {
     if (callback) res.once("finish", callback);
     return size ? end(take()) : end();
   };
+  next();
+}
+
+const DRAIN_BYTES = 16 * 1024 * 1024;
+
+/**
+ * Reads away, once an answer is sent, the rest of a request body the app did not read (a signed-out
+ * POST answered with a redirect, a refusal before an upload is parsed). The router's request stream
+ * reads the first chunks and pauses the request when nobody takes them, and Node reads away only a
+ * body nobody began to read: the rest stayed in the connection, which answered nothing more, and a
+ * client that sent its next request on it waited for ever (a 420 KB form post, then two small ones
+ * on the same connection: the third had no answer in 30 s). A body past 16 MB closes the connection.
+ */
+function drainUnreadBodies(req, res, next) {
+  res.once("finish", () => {
+    if (req.complete || req.destroyed) return;
+    let left = DRAIN_BYTES;
+    req.removeAllListeners("data");
+    req.on("data", (chunk) => {
+      left -= chunk.length;
+      if (left < 0) req.socket.destroy();
+    });
+    req.resume();
+  });
   next();
 }
 

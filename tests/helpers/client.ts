@@ -55,12 +55,13 @@ export class Client {
     const duplex = body instanceof ReadableStream ? { duplex: "half" } : {};
     let res: Response;
     try {
-      res = await fetch(new URL(path, APP_URL), { method, headers, body, redirect: "manual", ...duplex } as RequestInit);
+      // A request with no answer in 30 s fails naming itself, instead of the test timing out silently.
+      res = await fetch(new URL(path, APP_URL), { method, headers, body, redirect: "manual", signal: AbortSignal.timeout(30_000), ...duplex } as RequestInit);
     } catch (e) {
       // "fetch failed" alone does not say what failed: the request and the socket's own error do.
       const cause = (e as { cause?: { code?: string; message?: string } }).cause;
-      if (e instanceof Error) e.message = `${method} ${path}: ${e.message}${cause ? ` (${[cause.code, cause.message].filter(Boolean).join(": ")})` : ""}`;
-      throw e;
+      const why = [e instanceof Error ? `${e.name}: ${e.message}` : String(e), cause ? `(${[cause.code, cause.message].filter(Boolean).join(": ")})` : ""].filter(Boolean).join(" ");
+      throw new Error(`${method} ${path.slice(0, 200)}: ${why}`, { cause: e });
     }
     this.store(res);
     return res;

@@ -239,19 +239,6 @@ function formsOf(html: string, pagePath: string): FormSpec[] {
   return out;
 }
 
-/**
- * A keep-alive socket the server closes just as the client reuses it fails before any request is
- * read (ECONNRESET, no answer): the request never reached the app, so it is sent again once.
- */
-async function sendOnce(send: () => Promise<Response>) {
-  try {
-    return await send();
-  } catch (e) {
-    if ((e as { cause?: { code?: string } }).cause?.code !== "ECONNRESET") throw e;
-    return send();
-  }
-}
-
 const formValue = fc.oneof(hostileText, fc.integer().map(String), fc.double().map(String), fc.constant(""));
 
 async function fuzzPageForms(t: Tenant, client: Client, pagePath: string, skip: RegExp = /^$/) {
@@ -270,7 +257,7 @@ async function fuzzPageForms(t: Tenant, client: Client, pagePath: string, skip: 
         const body: Record<string, string> = Object.fromEntries(form.fields);
         body[name] = bad;
         const before = await snapshot(t);
-        const res = await sendOnce(() => client.request(form.action, { form: body }));
+        const res = await client.request(form.action, { form: body });
         await judge(t, `POST ${form.action} intent=${intent ?? "-"} ${name}=${JSON.stringify(bad)}`, before, res);
       }
     }
@@ -285,7 +272,7 @@ async function fuzzPageForms(t: Tenant, client: Client, pagePath: string, skip: 
           replace.forEach((k) => (body[k] = values[names.indexOf(k)]));
           for (const [k, v] of Object.entries(extra)) if (!(k in body)) body[k] = v;
           const before = await snapshot(t);
-          const res = await sendOnce(() => client.request(form.action, { form: body }));
+          const res = await client.request(form.action, { form: body });
           await judge(t, `POST ${form.action} intent=${intent ?? "-"} ${JSON.stringify(body).slice(0, 200)}`, before, res);
         },
       ),
