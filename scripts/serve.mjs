@@ -150,7 +150,8 @@ function coalesceWrites(_req, res, next) {
   next();
 }
 
-const DRAIN_BYTES = 16 * 1024 * 1024;
+// As much as a refused photo upload reads away itself (app/server/photos.server.ts, DISCARD_AT_MOST).
+const DRAIN_BYTES = 64 * 1024 * 1024;
 
 /**
  * Reads away, once an answer is sent, the rest of a request body the app did not read (a signed-out
@@ -158,7 +159,7 @@ const DRAIN_BYTES = 16 * 1024 * 1024;
  * reads the first chunks and pauses the request when nobody takes them, and Node reads away only a
  * body nobody began to read: the rest stayed in the connection, which answered nothing more, and a
  * client that sent its next request on it waited for ever (a 420 KB form post, then two small ones
- * on the same connection: the third had no answer in 30 s). A body past 16 MB closes the connection.
+ * on the same connection: the third had no answer in 30 s). A body past 64 MB closes the connection.
  */
 function drainUnreadBodies(req, res, next) {
   res.once("finish", () => {
