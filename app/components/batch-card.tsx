@@ -30,7 +30,7 @@ export function clock(ms: number, timeZone: string, lang: string) {
 export const FIRST_CARDS = 24;
 const never = () => () => {};
 /** False on the server and while the page hydrates, true in the browser from then on. */
-const useHydrated = () => useSyncExternalStore(never, () => true, () => false);
+export const useHydrated = () => useSyncExternalStore(never, () => true, () => false);
 
 /**
  * The live view's cards: one translation hook for the list, and plain links whose taps the list
@@ -39,7 +39,22 @@ const useHydrated = () => useSyncExternalStore(never, () => true, () => false);
  * screens of a tablet) and every card's data; the others follow as soon as it hydrates, so a busy
  * site's page is a fraction of the HTML to render, compress and send.
  */
-export function BatchCards({ cards, now, timeZone, hrefOf, pendingOf }: { cards: CardData[]; now: number; timeZone: string; hrefOf: (id: string) => string; pendingOf: (id: string) => number }) {
+export function BatchCards({
+  cards,
+  total = cards.length,
+  now,
+  timeZone,
+  hrefOf,
+  pendingOf,
+}: {
+  cards: CardData[];
+  /** How many there are, when the page brought only the first ones' data (the station). */
+  total?: number;
+  now: number;
+  timeZone: string;
+  hrefOf: (id: string) => string;
+  pendingOf: (id: string) => number;
+}) {
   const { t, i18n } = useTranslation();
   const navigate = useNavigate();
   const onClick = (e: React.MouseEvent<HTMLUListElement>) => {
@@ -53,7 +68,7 @@ export function BatchCards({ cards, now, timeZone, hrefOf, pendingOf }: { cards:
   const labels = useMemo(() => cardLabels(t), [t, i18n.language]);
   const shown = useHydrated() ? cards : cards.slice(0, FIRST_CARDS);
   return (
-    <ul className="grid gap-4 md:grid-cols-2" onClick={onClick} data-cards={cards.length} data-shown={shown.length}>
+    <ul className="grid gap-4 md:grid-cols-2" onClick={onClick} data-cards={total} data-shown={shown.length}>
       {shown.map((c) => (
         <BatchCard key={c.id} card={c} now={now} timeZone={timeZone} to={hrefOf(c.id)} pending={pendingOf(c.id)} t={t} labels={labels} lang={i18n.language} />
       ))}
