@@ -50,8 +50,8 @@ export async function loader({ request }: Route.LoaderArgs) {
     cook: cook ? { id: cook.id, name: cook.name } : null,
     // JSON strings: the router's own encoding of 200 cards' few thousand values was a sixth of a
     // poll's work in a CPU profile (17 %); JSON.stringify here and JSON.parse in the browser replace it.
-    // The cards the server renders apart from the rest, so it parses only those back (parsing all
-    // 200 was 7 % of a page's profile).
+    // The cards the server renders apart from the rest, so it parses only those back: this
+    // component fell from 5.1 % to 2.7 % of a saturated page's CPU profile.
     ...cardStrings(active.map((b) => cardFor(b.batch, b.product.name, b.readings, b.assessment, site.readingIntervalMinutes))),
     now,
     timeZone: site.timeZone,
