@@ -1,6 +1,6 @@
 import { randomUUID } from "node:crypto";
 import fc from "fast-check";
-import { beforeAll, describe, expect, it } from "vitest";
+import { beforeAll, describe, expect, it, vi } from "vitest";
 import { afterSweep, coolingBatch } from "../helpers/batches";
 import { APP_URL, Client, signedIn } from "../helpers/client";
 import { newTenant, pool } from "../helpers/db";
@@ -11,6 +11,8 @@ import { newTenant, pool } from "../helpers/db";
 
 type Tenant = Awaited<ReturnType<typeof newTenant>>;
 const RUNS = Number(process.env.FUZZ_RUNS ?? 25);
+// The suite's 60 s per test is for the default runs; more runs (FUZZ_RUNS) get time in proportion.
+vi.setConfig({ testTimeout: 60_000 * Math.max(1, RUNS / 25) });
 
 const nasty = [
   "'; DROP TABLE readings; --",
