@@ -106,8 +106,7 @@ export default function Station({ loaderData, actionData }: Route.ComponentProps
   // The first cards are on the page as it arrives; the rest are read once it is live.
   const hydrated = useHydrated();
   const first = useMemo(() => JSON.parse(loaderData.cards) as CardData[], [loaderData.cards]);
-  const more = useMemo(() => (hydrated ? (JSON.parse(loaderData.moreCards) as CardData[]) : []), [hydrated, loaderData.moreCards]);
-  const cards = useMemo(() => (more.length ? first.concat(more) : first), [first, more]);
+  const cards = useMemo(() => (hydrated ? first.concat(JSON.parse(loaderData.moreCards) as CardData[]) : first), [hydrated, first, loaderData.moreCards]);
   const cardCount = loaderData.cardCount;
   const now = useLiveNow(loaderData.now);
   const pending = usePending();

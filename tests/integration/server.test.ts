@@ -3,9 +3,9 @@ import { connect, type Socket } from "node:net";
 import { describe, expect, it } from "vitest";
 import { APP_URL } from "../helpers/client";
 
-/** Sends one request on the socket and resolves with the status line of its answer (or fails after 10 s). */
-function send(socket: Socket, head: string, body = ""): Promise<string> {
-  const path = head.split(" ")[1];
+/** Sends one request (`start`: its request line and any headers but Host) on the socket and resolves with the status line of its answer (or fails after 10 s). */
+function send(socket: Socket, start: string, body = ""): Promise<string> {
+  const path = start.split(" ")[1];
   return new Promise((resolve, reject) => {
     const timer = setTimeout(() => reject(new Error(`no answer to ${path} in 10 s`)), 10_000);
     let text = "";
@@ -25,7 +25,7 @@ function send(socket: Socket, head: string, body = ""): Promise<string> {
     const onClose = () => reject(new Error(`the server closed the connection before answering ${path}`));
     socket.on("data", onData);
     socket.once("close", onClose);
-    socket.write(`${head}\r\nHost: ${new URL(APP_URL).host}\r\nConnection: keep-alive\r\n${body ? `Content-Length: ${Buffer.byteLength(body)}\r\n` : ""}\r\n${body}`);
+    socket.write(`${start}\r\nHost: ${new URL(APP_URL).host}\r\nConnection: keep-alive\r\n${body ? `Content-Length: ${Buffer.byteLength(body)}\r\n` : ""}\r\n${body}`);
   });
 }
 
@@ -60,8 +60,8 @@ describe("the server's connections", () => {
     const socket = await connected();
     try {
       const form = `intent=create&name=${"x".repeat(420_000)}`;
-      const head = `POST /sites/${randomUUID()}/station-setup HTTP/1.1\r\nOrigin: ${APP_URL}\r\nContent-Type: application/x-www-form-urlencoded`;
-      expect(await send(socket, head, form)).toBe("HTTP/1.1 302 Found");
+      const start = `POST /sites/${randomUUID()}/station-setup HTTP/1.1\r\nOrigin: ${APP_URL}\r\nContent-Type: application/x-www-form-urlencoded`;
+      expect(await send(socket, start, form)).toBe("HTTP/1.1 302 Found");
       expect(await get(socket, "/healthz")).toBe("HTTP/1.1 200 OK");
       expect(await get(socket, "/healthz")).toBe("HTTP/1.1 200 OK");
     } finally {
