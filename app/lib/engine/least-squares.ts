@@ -37,6 +37,8 @@ export function fitLeastSquares(
   let cost = sq(r);
   let lambda = 1e-3;
   let cols = jacobian(p, r);
+  // Whether cols is the jacobian at p (a refused step leaves both as they were).
+  let colsCurrent = true;
   let iterations = 0;
   const maxIterations = opts.maxIterations ?? 30;
   const tol = opts.tol ?? 1e-6;
@@ -54,14 +56,16 @@ export function fitLeastSquares(
       r = rn;
       cost = cn;
       lambda = Math.max(lambda / 3, 1e-9);
+      colsCurrent = false;
       if (moved < tol || gain < 1e-12 * (1 + cost)) break;
       cols = jacobian(p, r);
+      colsCurrent = true;
     } else {
       lambda *= 4;
       if (lambda > 1e10 || moved < tol) break;
     }
   }
-  const final = normal(jacobian(p, r), r);
+  const final = normal(colsCurrent ? cols : jacobian(p, r), r);
   return { p, jtj: final.a, cost, iterations };
 }
 
